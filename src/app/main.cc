@@ -1,0 +1,85 @@
+// loopwright's entry point: builds the subcommands from the command table, parses, runs, and
+// turns every error into one sentence on stderr and its documented exit status.
+#include <unistd.h>
+
+#include <cstdlib>
+#include <iostream>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include <CLI/CLI.hpp>
+
+#include "app/command.h"
+#include "lti/error.h"
+
+namespace {
+
+std::string JoinCommandLine(int argc, char** argv) {
+  std::string line;
+  for (int i = 0; i < argc; ++i) {
+    if (i) line += ' ';
+    std::string a = argv[i];
+    bool plain = !a.empty() && a.find_first_of(" \t\"'\\$*?()[]{}|;&<>") == std::string::npos;
+    line += plain ? a : "'" + a + "'";
+  }
+  return line;
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  using lw::app::CommandTable;
+  CLI::App app{
+      "loopwright: identify a rig's plant from a step test, choose a controller gain band from\n"
+      "the root locus, predict the closed loop and check it against fresh measurements."};
+  app.set_version_flag("--version", std::string("loopwright ") + LOOPWRIGHT_VERSION);
+  app.require_subcommand(1);
+  app.fallthrough(false);
+
+  std::vector<std::unique_ptr<lw::app::Command>> commands;
+  std::vector<CLI::App*> subs;
+  for (const auto& entry : CommandTable()) {
+    commands.push_back(entry.make());
+    CLI::App* sub = app.add_subcommand(entry.name, entry.summary);
+    commands.back()->Configure(*sub);
+    subs.push_back(sub);
+  }
+
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::CallForHelp& e) {
+    return app.exit(e);
+  } catch (const CLI::CallForAllHelp& e) {
+    return app.exit(e);
+  } catch (const CLI::CallForVersion& e) {
+    return app.exit(e);
+  } catch (const CLI::ParseError& e) {
+    std::cerr << "loopwright: " << e.what() << " (see loopwright --help)\n";
+    return static_cast<int>(lw::ExitStatus::kUsage);
+  }
+
+  bool terminal = isatty(STDOUT_FILENO) == 1;
+  const char* no_color = std::getenv("NO_COLOR");
+  lw::app::Context ctx{std::cout, std::cerr, terminal,
+                       terminal && (no_color == nullptr || *no_color == '\0'),
+                       JoinCommandLine(argc, argv)};
+  for (size_t i = 0; i < subs.size(); ++i) {
+    if (!subs[i]->parsed()) continue;
+    try {
+      int status = commands[i]->Run(ctx);
+      std::cout.flush();
+      return status;
+    } catch (const lw::Error& e) {
+      std::cout.flush();
+      std::cerr << "loopwright " << subs[i]->get_name() << ": " << e.what() << "\n";
+      return static_cast<int>(e.status());
+    } catch (const std::exception& e) {
+      std::cout.flush();
+      std::cerr << "loopwright " << subs[i]->get_name() << ": internal error: " << e.what()
+                << "\n";
+      return static_cast<int>(lw::ExitStatus::kJobFailed);
+    }
+  }
+  return static_cast<int>(lw::ExitStatus::kUsage);
+}

@@ -1,0 +1,59 @@
+// Step-response metrics for simulated and measured (noisy) responses.
+//
+// A step at t_step from y_initial towards y_final:
+//   rise time      time from the rise_low to the rise_high fraction of the change (10-90 % by
+//                  default), crossings interpolated linearly between samples;
+//   peak time      time from the step to the extreme value in the direction of the change;
+//   overshoot      100 * (peak - final) / (final - initial), 0 when there is none;
+//   undershoot     100 * the largest excursion opposite the change before it / |change|;
+//   settling time  time from the step after which y stays within settle_band * |change| of final
+//                  (2 % band by default);
+//   steady-state error  target - final, when a target (the reference) is given.
+// For measured data (`noisy`), see step_metrics.cc's header comment for the method: the final
+// value is a robust average of the settled tail, and crossings are taken on a smoothed trace with
+// hysteresis of a few noise standard deviations so noise cannot create false crossings.
+#ifndef LOOPWRIGHT_LTI_STEP_METRICS_H_
+#define LOOPWRIGHT_LTI_STEP_METRICS_H_
+
+#include <optional>
+#include <span>
+
+namespace lw {
+
+struct StepMetricsOptions {
+  double rise_low = 0.1;      // fraction of the change, 0 <= rise_low < rise_high <= 1
+  double rise_high = 0.9;
+  double settle_band = 0.02;  // fraction of |change|, > 0
+  // Treat the data as measured: estimate noise, use robust final value and hysteresis.
+  bool noisy = false;
+  // Validates the fields; throws UsageError naming the field, its value and the rule it broke.
+  void Validate() const;
+};
+
+struct StepMetrics {
+  double initial = 0.0;
+  double final_value = 0.0;
+  double rise_time = 0.0;          // s; NaN when the response never reaches rise_high
+  double peak_time = 0.0;          // s
+  double peak = 0.0;               // extreme output value in the direction of the change
+  double overshoot_percent = 0.0;
+  double undershoot_percent = 0.0;
+  double settling_time = 0.0;      // s; NaN when never settled within the record
+  double steady_state_error = 0.0; // target - final (0 without a target)
+  double peak_actuator = 0.0;      // largest |u| after the step (0 without u)
+  double noise_sd = 0.0;           // estimated output noise standard deviation (noisy mode)
+  bool settled = false;            // the record ends inside the settling band
+};
+
+// Metrics of y(t) for a step at t_step. initial is taken from samples before t_step (their
+// robust average in noisy mode; y[0] when there are none). target, when given, is the level the
+// response should reach (for steady-state error). u, when given, supplies peak_actuator.
+// Throws UsageError on size mismatches or fewer than 3 samples after t_step.
+StepMetrics MeasureStep(std::span<const double> t, std::span<const double> y, double t_step,
+                        const StepMetricsOptions& options = {},
+                        std::optional<double> target = std::nullopt,
+                        std::span<const double> u = {});
+
+}  // namespace lw
+
+#endif  // LOOPWRIGHT_LTI_STEP_METRICS_H_
