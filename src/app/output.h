@@ -1,0 +1,74 @@
+// How commands write to the user: numbers with sensible significant digits, compact aligned
+// tables, optional colour, warnings, and exactly one JSON document for --json.
+//
+// Human output is short plain text; colour is used only when Context::color is set (stdout is a
+// terminal and NO_COLOR is unset). With --json a command prints one document and nothing else on
+// stdout; warnings go to stderr either way.
+#ifndef LOOPWRIGHT_APP_OUTPUT_H_
+#define LOOPWRIGHT_APP_OUTPUT_H_
+
+#include <iosfwd>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "app/command.h"
+
+namespace lw::app {
+
+// v with `significant` significant digits, without trailing zeros and without an exponent
+// between 1e-4 and 1e6: 0.1234567 -> "0.1235", 2.0 -> "2", 1234567 -> "1.235e+06". NaN -> "n/a",
+// infinities -> "inf" / "-inf". significant is clamped to 1..17.
+std::string FormatNumber(double v, int significant = 4);
+
+// FormatNumber followed by a space and the unit when the unit is not empty: "3.2 s".
+std::string FormatQuantity(double v, std::string_view unit, int significant = 4);
+
+// A JSON number, or null when v is NaN or infinite (JSON has no such numbers).
+nlohmann::json JsonNumber(double v);
+// A JSON array of numbers, each as JsonNumber.
+nlohmann::json JsonNumbers(const std::vector<double>& v);
+
+// Prints doc on ctx.out, indented by 2, with a trailing newline.
+void PrintJson(Context& ctx, const nlohmann::json& doc);
+
+// Colour helpers: the text wrapped in an ANSI colour when ctx.color, else the text unchanged.
+std::string Bold(const Context& ctx, std::string_view text);
+std::string Good(const Context& ctx, std::string_view text);     // green
+std::string Caution(const Context& ctx, std::string_view text);  // yellow
+std::string Bad(const Context& ctx, std::string_view text);      // red
+
+// "warning: <text>" on ctx.err (one line each).
+void Warn(Context& ctx, std::string_view text);
+
+// A compact table: a header row, then rows; columns are separated by two spaces, text is
+// left-aligned and cells that look like numbers are right-aligned. Rows shorter than the header
+// are padded with empty cells. Alignment counts UTF-8 code points, not bytes.
+class TextTable {
+ public:
+  explicit TextTable(std::vector<std::string> header);
+  void AddRow(std::vector<std::string> row);
+  // Prints the table, each line starting with `indent` spaces; the header is underlined with
+  // dashes.
+  void Print(std::ostream& out, int indent = 2) const;
+
+ private:
+  std::vector<std::string> header_;
+  std::vector<std::vector<std::string>> rows_;
+};
+
+// "key: value" lines with the keys padded to one width, for short summaries.
+class KeyValueList {
+ public:
+  void Add(std::string key, std::string value);
+  void Print(std::ostream& out, int indent = 2) const;
+
+ private:
+  std::vector<std::pair<std::string, std::string>> items_;
+};
+
+}  // namespace lw::app
+
+#endif  // LOOPWRIGHT_APP_OUTPUT_H_
