@@ -1,11 +1,11 @@
 #include "lti/pade.h"
 
-#include <charconv>
 #include <cmath>
 #include <string>
 #include <vector>
 
 #include "lti/error.h"
+#include "lti/number_text.h"
 
 namespace lw {
 namespace {
@@ -22,9 +22,7 @@ void CheckOrder(int order) {
 TransferFunction PadeDelay(double delay, int order) {
   CheckOrder(order);
   if (!std::isfinite(delay) || delay < 0.0) {
-    char buf[64];
-    auto res = std::to_chars(buf, buf + sizeof(buf), delay);
-    throw UsageError("dead time " + std::string(buf, res.ptr) +
+    throw UsageError("dead time " + ShortestText(delay) +
                      " s cannot be approximated; it must be a finite number >= 0 seconds");
   }
   if (delay == 0.0) return TransferFunction();

@@ -9,24 +9,17 @@
 
 #include <Eigen/Dense>
 #include <algorithm>
-#include <charconv>
 #include <cmath>
 #include <limits>
 #include <sstream>
 
 #include "lti/error.h"
+#include "lti/number_text.h"
 
 namespace lw {
 namespace {
 
 using Complex = std::complex<double>;
-
-// Shortest text that reads back to exactly the same double.
-std::string ShortestText(double v) {
-  char buf[64];
-  auto res = std::to_chars(buf, buf + sizeof(buf), v);
-  return std::string(buf, res.ptr);
-}
 
 // Diagonal similarity scaling by powers of two until every row and column have comparable norms
 // (the classic balancing algorithm; exact in binary arithmetic, so eigenvalues are unchanged).

@@ -1,21 +1,15 @@
 #include "lti/transfer_function.h"
 
 #include <algorithm>
-#include <charconv>
 #include <cmath>
 #include <limits>
 
 #include "lti/error.h"
+#include "lti/number_text.h"
 #include "lti/pade.h"
 
 namespace lw {
 namespace {
-
-std::string ShortestText(double v) {
-  char buf[64];
-  auto res = std::to_chars(buf, buf + sizeof(buf), v);
-  return std::string(buf, res.ptr);
-}
 
 // Number of trailing coefficients that are zero relative to the largest one: the multiplicity of
 // s = 0 as a root, to the tolerance integrators() documents.
