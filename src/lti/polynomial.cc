@@ -3,7 +3,8 @@
 // Roots: the monic companion matrix is balanced (Parlett & Reinsch's diagonal scaling by powers of
 // two, which leaves the eigenvalues unchanged and makes them far less sensitive to rounding), its
 // eigenvalues are computed with Eigen's real Schur based EigenSolver, and each one is then given at
-// most a few Newton steps on p itself, a step being kept only when it lowers |p(r)|. Roots at the
+// most a few Newton steps on p itself, a step being kept only when it lowers |p(r)| and none
+// taken once |p(r)| is down to the rounding level of evaluating p there. Roots at the
 // origin (trailing zero coefficients) are split off first and returned exactly as 0.
 #include "lti/polynomial.h"
 
@@ -71,12 +72,17 @@ void EvalWithDerivative(const std::vector<double>& c, Complex r, Complex& p, Com
   }
 }
 
-// A few Newton steps, each kept only when it lowers |p|.
+// A few Newton steps, each kept only when it lowers |p|. A root whose residual |p(r)| is already
+// at the rounding level of evaluating p there (a few eps * sum |c_k| |r|^k) is as good as the
+// coefficients allow and is left alone: stepping on rounding noise would only scatter the copies
+// of a repeated root and spoil their mean, which the eigenvalues give accurately.
 Complex Polish(const std::vector<double>& c, Complex r) {
   for (int it = 0; it < 8; ++it) {
     Complex p, dp;
     EvalWithDerivative(c, r, p, dp);
-    if (p == 0.0 || dp == 0.0) break;
+    double scale = 0.0;
+    for (double ci : c) scale = scale * std::abs(r) + std::abs(ci);
+    if (std::abs(p) <= 4.0 * std::numeric_limits<double>::epsilon() * scale || dp == 0.0) break;
     const Complex next = r - p / dp;
     if (!std::isfinite(next.real()) || !std::isfinite(next.imag())) break;
     Complex pn, dpn;
