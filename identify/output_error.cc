@@ -1,0 +1,351 @@
+#include "identify/output_error.h"
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <sstream>
+
+#include <ceres/ceres.h>
+
+#include "lti/error.h"
+
+namespace lw {
+namespace {
+
+// Full index of dynamic parameter i (see DynamicCount): the ones after the gain, except that the
+// dead time is always the structure's last parameter.
+int FullIndexOfDynamic(Structure s, int i) {
+  return i == DynamicCount(s) - 1 ? DeadTimeIndex(s) : i + 1;
+}
+
+// A non-owning callable row(index, residual, jacobian_row_or_null), so the kernels are
+// instantiated once rather than once per caller.
+class RowSink {
+ public:
+  template <typename F>
+  RowSink(F& f)  // NOLINT: implicit by design
+      : obj_(&f), call_([](void* o, size_t i, double r, const double* j) {
+          (*static_cast<F*>(o))(i, r, j);
+        }) {}
+  void operator()(size_t i, double r, const double* j) const { call_(obj_, i, r, j); }
+
+ private:
+  void* obj_;
+  void (*call_)(void*, size_t, double, const double*);
+};
+
+// The kernel for the structures whose dynamic parameter count is D.
+template <int D, typename T, typename Emit>
+void RunKernelD(Structure s, const T* dyn, const SampleGrid& grid, std::span<const double> v,
+                bool zero_initial, Emit&& emit) {
+  if constexpr (D == 2) {
+    if (s == Structure::kFopdt) {
+      kernel::Run<Structure::kFopdt>(dyn, grid, v, zero_initial, emit);
+    } else {
+      kernel::Run<Structure::kIntegrating>(dyn, grid, v, zero_initial, emit);
+    }
+  } else {
+    if (s == Structure::kSopdt) {
+      kernel::Run<Structure::kSopdt>(dyn, grid, v, zero_initial, emit);
+    } else if (s == Structure::kSopdtZero) {
+      kernel::Run<Structure::kSopdtZero>(dyn, grid, v, zero_initial, emit);
+    } else {
+      kernel::Run<Structure::kUnderdamped>(dyn, grid, v, zero_initial, emit);
+    }
+  }
+}
+
+// Calls row(index, residual, jacobian_row_or_null) for every fitted sample.
+template <int D>
+void ForEachRow(const OutputErrorProblem& pb, std::span<const double> x, bool with_jacobian,
+                const RowSink& row) {
+  const Structure s = pb.structure;
+  const int ps = ParameterCount(s);
+  const int p = ps + 2;
+  const double k_gain = x[0];
+  const double y0 = x[ps];
+  const double drift = x[ps + 1];
+  const double t0 = pb.t.empty() ? 0.0 : pb.t[0];
+  const bool has_zero = s == Structure::kSopdtZero;
+  const double tau2 = has_zero ? x[2] : 1.0;
+  const double tauz = has_zero ? x[3] : 0.0;
+  const SampleGrid grid = MakeSampleGrid(pb.t);
+  auto sqrt_weight = [&](size_t k) { return pb.weight.empty() ? 1.0 : std::sqrt(pb.weight[k]); };
+  if (!with_jacobian) {
+    double dyn[D];
+    for (int i = 0; i < D; ++i) dyn[i] = x[FullIndexOfDynamic(s, i)];
+    double w0, w1;
+    OutputWeights(s, tau2, tauz, w0, w1);
+    RunKernelD<D>(s, dyn, grid, pb.v, pb.zero_initial, [&](size_t k, double x1, double x2) {
+      if (k < pb.first_residual) return;
+      double yhat = y0 + drift * (pb.t[k] - t0) + k_gain * (w0 * x1 + w1 * x2);
+      row(k - pb.first_residual, sqrt_weight(k) * (yhat - pb.y[k]), nullptr);
+    });
+    return;
+  }
+  using J = ceres::Jet<double, D>;
+  J dyn[D];
+  for (int i = 0; i < D; ++i) dyn[i] = J(x[FullIndexOfDynamic(s, i)], i);
+  J w0, w1;
+  OutputWeights(s, has_zero ? dyn[1] : J(1.0), J(tauz), w0, w1);
+  std::vector<double> jrow(p, 0.0);
+  RunKernelD<D>(s, dyn, grid, pb.v, pb.zero_initial, [&](size_t k, const J& x1, const J& x2) {
+    if (k < pb.first_residual) return;
+    const double sw = sqrt_weight(k);
+    J shape = w0 * x1 + w1 * x2;
+    double yhat = y0 + drift * (pb.t[k] - t0) + k_gain * shape.a;
+    jrow[0] = sw * shape.a;
+    for (int i = 0; i < D; ++i) jrow[FullIndexOfDynamic(s, i)] = sw * k_gain * shape.v[i];
+    if (has_zero) jrow[3] = sw * k_gain * (x1.a - x2.a) / tau2;
+    jrow[ps] = sw;
+    jrow[ps + 1] = sw * (pb.t[k] - t0);
+    row(k - pb.first_residual, sw * (yhat - pb.y[k]), jrow.data());
+  });
+}
+
+void Rows(const OutputErrorProblem& pb, std::span<const double> x, bool with_jacobian,
+          const RowSink& row) {
+  if (static_cast<int>(x.size()) != FullParameterCount(pb.structure)) {
+    throw UsageError("output-error problem: parameter vector has the wrong size");
+  }
+  if (DynamicCount(pb.structure) == 2) {
+    ForEachRow<2>(pb, x, with_jacobian, row);
+  } else {
+    ForEachRow<3>(pb, x, with_jacobian, row);
+  }
+}
+
+size_t ResidualCount(const OutputErrorProblem& pb) {
+  return pb.t.size() > pb.first_residual ? pb.t.size() - pb.first_residual : 0;
+}
+
+class OutputErrorCost : public ceres::CostFunction {
+ public:
+  explicit OutputErrorCost(const OutputErrorProblem& pb) : pb_(pb) {
+    set_num_residuals(static_cast<int>(ResidualCount(pb)));
+    mutable_parameter_block_sizes()->push_back(FullParameterCount(pb.structure));
+  }
+  bool Evaluate(double const* const* params, double* residuals, double** jacobians) const override {
+    const int p = FullParameterCount(pb_.structure);
+    std::span<const double> x(params[0], static_cast<size_t>(p));
+    if (!IsPhysical(pb_.structure, x.first(ParameterCount(pb_.structure)))) return false;
+    double* jac = (jacobians != nullptr) ? jacobians[0] : nullptr;
+    EvaluateOutputError(pb_, x, residuals, jac);
+    const size_t n = ResidualCount(pb_);
+    for (size_t i = 0; i < n; ++i) {
+      if (!std::isfinite(residuals[i])) return false;
+    }
+    return true;
+  }
+
+ private:
+  const OutputErrorProblem& pb_;
+};
+
+std::string JoinNames(const std::vector<std::string>& names) {
+  std::string out;
+  for (size_t i = 0; i < names.size(); ++i) {
+    if (i) out += i + 1 == names.size() ? " and " : ", ";
+    out += names[i];
+  }
+  return out;
+}
+
+}  // namespace
+
+std::vector<std::string> FullParameterNames(Structure s) {
+  std::vector<std::string> names = ParameterNames(s);
+  names.push_back("output_offset");
+  names.push_back("output_drift");
+  return names;
+}
+
+void EvaluateOutputError(const OutputErrorProblem& problem, std::span<const double> x,
+                         double* residuals, double* jacobian) {
+  const int p = FullParameterCount(problem.structure);
+  auto sink = [&](size_t i, double r, const double* jrow) {
+    residuals[i] = r;
+    if (jrow) std::copy(jrow, jrow + p, jacobian + i * static_cast<size_t>(p));
+  };
+  Rows(problem, x, jacobian != nullptr, sink);
+}
+
+std::vector<double> PredictOutput(const OutputErrorProblem& problem, std::span<const double> x) {
+  OutputErrorProblem pb = problem;
+  std::vector<double> zeros(problem.t.size(), 0.0);
+  pb.y = zeros;
+  pb.weight = {};
+  pb.first_residual = 0;
+  std::vector<double> yhat(problem.t.size());
+  auto sink = [&](size_t i, double r, const double*) { yhat[i] = r; };
+  Rows(pb, x, false, sink);
+  return yhat;
+}
+
+Eigen::MatrixXd NormalMatrix(const OutputErrorProblem& problem, std::span<const double> x) {
+  const int p = FullParameterCount(problem.structure);
+  Eigen::MatrixXd jtj = Eigen::MatrixXd::Zero(p, p);
+  auto sink = [&](size_t, double, const double* jrow) {
+    Eigen::Map<const Eigen::VectorXd> row(jrow, p);
+    jtj.selfadjointView<Eigen::Lower>().rankUpdate(row);
+  };
+  Rows(problem, x, true, sink);
+  return jtj.selfadjointView<Eigen::Lower>();
+}
+
+SolveReport SolveOutputError(const OutputErrorProblem& problem, std::vector<double> start,
+                             const std::vector<bool>& fixed, const std::vector<double>& lower,
+                             const std::vector<double>& upper, const SolveOptions& options) {
+  const int p = FullParameterCount(problem.structure);
+  if (static_cast<int>(start.size()) != p || static_cast<int>(fixed.size()) != p ||
+      static_cast<int>(lower.size()) != p || static_cast<int>(upper.size()) != p) {
+    throw UsageError("output-error solve: start, fixed and bounds must have " + std::to_string(p) +
+                     " entries");
+  }
+  if (problem.y.size() != problem.t.size() || problem.v.size() != problem.t.size() ||
+      (!problem.weight.empty() && problem.weight.size() != problem.t.size())) {
+    throw UsageError("output-error solve: t, v, y (and weight) must have the same length");
+  }
+  auto begin = std::chrono::steady_clock::now();
+  SolveReport report;
+  report.x = std::move(start);
+  report.residuals = ResidualCount(problem);
+  report.free_parameters = static_cast<int>(std::count(fixed.begin(), fixed.end(), false));
+
+  ceres::Problem::Options problem_options;
+  problem_options.cost_function_ownership = ceres::TAKE_OWNERSHIP;
+  ceres::Problem cp(problem_options);
+  double* xp = report.x.data();
+  cp.AddResidualBlock(new OutputErrorCost(problem), nullptr, xp);
+  std::vector<int> held;
+  for (int i = 0; i < p; ++i) {
+    if (fixed[i]) {
+      held.push_back(i);
+      continue;
+    }
+    if (std::isfinite(lower[i])) cp.SetParameterLowerBound(xp, i, lower[i]);
+    if (std::isfinite(upper[i])) cp.SetParameterUpperBound(xp, i, upper[i]);
+  }
+  if (static_cast<int>(held.size()) == p) {
+    throw UsageError("output-error solve: every parameter is fixed");
+  }
+  if (!held.empty()) cp.SetManifold(xp, new ceres::SubsetManifold(p, held));
+
+  ceres::Solver::Options so;
+  so.minimizer_type = ceres::TRUST_REGION;
+  so.trust_region_strategy_type = ceres::LEVENBERG_MARQUARDT;
+  // Normal equations are cheap for the long, thin Jacobians of recordings; QR keeps the digits
+  // on short ill-conditioned problems.
+  so.linear_solver_type = report.residuals > 5000 ? ceres::DENSE_NORMAL_CHOLESKY : ceres::DENSE_QR;
+  so.max_num_iterations = options.max_iterations;
+  so.function_tolerance = options.function_tolerance;
+  so.parameter_tolerance = options.parameter_tolerance;
+  so.gradient_tolerance = options.gradient_tolerance;
+  so.num_threads = 1;
+  so.logging_type = ceres::SILENT;
+  so.minimizer_progress_to_stdout = false;
+  ceres::Solver::Summary summary;
+  ceres::Solve(so, &cp, &summary);
+
+  report.rss = 2.0 * summary.final_cost;
+  report.iterations = static_cast<int>(summary.iterations.size());
+  report.converged = summary.termination_type == ceres::CONVERGENCE;
+  report.termination = ceres::TerminationTypeToString(summary.termination_type) +
+                       std::string(": ") + summary.message;
+  if (options.compute_covariance && summary.IsSolutionUsable()) {
+    ComputeOutputErrorCovariance(problem, fixed, report);
+  }
+  report.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - begin).count();
+  return report;
+}
+
+void ComputeOutputErrorCovariance(const OutputErrorProblem& problem, const std::vector<bool>& fixed,
+                                  SolveReport& report) {
+  const Structure s = problem.structure;
+  const int p = FullParameterCount(s);
+  const int dof = static_cast<int>(report.residuals) - report.free_parameters;
+  report.covariance = Eigen::MatrixXd::Zero(p, p);
+  report.covariance_ok = false;
+  report.rank_deficiency.clear();
+  if (dof <= 0) {
+    report.rank_deficiency = "there are no more fitted samples (" +
+                             std::to_string(report.residuals) + ") than free parameters (" +
+                             std::to_string(report.free_parameters) + ")";
+    return;
+  }
+  const double s2 = report.rss / dof;
+  std::vector<std::string> names = FullParameterNames(s);
+
+  // Which direction, if any, the data cannot determine: SVD of the column-scaled J'J.
+  std::vector<int> free_idx;
+  for (int i = 0; i < p; ++i) {
+    if (!fixed[i]) free_idx.push_back(i);
+  }
+  const int m = static_cast<int>(free_idx.size());
+  Eigen::MatrixXd full = NormalMatrix(problem, report.x);
+  Eigen::MatrixXd n(m, m);
+  for (int a = 0; a < m; ++a) {
+    for (int b = 0; b < m; ++b) n(a, b) = full(free_idx[a], free_idx[b]);
+  }
+  Eigen::VectorXd scale = n.diagonal().cwiseSqrt();
+  std::vector<std::string> dead;
+  for (int a = 0; a < m; ++a) {
+    if (!(scale[a] > 0.0)) {
+      dead.push_back(names[free_idx[a]]);
+      scale[a] = 1.0;
+    }
+  }
+  Eigen::MatrixXd ns = scale.asDiagonal().inverse() * n * scale.asDiagonal().inverse();
+  Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(ns);
+  const double ratio = eig.eigenvalues()[0] / std::max(eig.eigenvalues()[m - 1], 1e-300);
+  std::string undetermined;
+  if (!dead.empty()) {
+    undetermined = "the data do not depend on " + JoinNames(dead) + " at all";
+  } else if (ratio < 1e-12) {
+    Eigen::VectorXd null_dir = eig.eigenvectors().col(0);
+    std::vector<std::string> culprits;
+    const double top = null_dir.cwiseAbs().maxCoeff();
+    for (int a = 0; a < m; ++a) {
+      if (std::abs(null_dir[a]) >= 0.5 * top) culprits.push_back(names[free_idx[a]]);
+    }
+    undetermined = "the data cannot determine " + JoinNames(culprits) +
+                   (culprits.size() > 1 ? " separately" : "") +
+                   " (scaled normal matrix reciprocal condition " +
+                   [&] {
+                     std::ostringstream o;
+                     o.precision(2);
+                     o << ratio;
+                     return o.str();
+                   }() +
+                   ")";
+  }
+
+  ceres::Problem::Options po;
+  po.cost_function_ownership = ceres::TAKE_OWNERSHIP;
+  ceres::Problem cp(po);
+  std::vector<double> x = report.x;
+  cp.AddResidualBlock(new OutputErrorCost(problem), nullptr, x.data());
+  std::vector<int> held;
+  for (int i = 0; i < p; ++i) {
+    if (fixed[i]) held.push_back(i);
+  }
+  if (!held.empty()) cp.SetManifold(x.data(), new ceres::SubsetManifold(p, held));
+  ceres::Covariance::Options co;
+  co.algorithm_type = ceres::DENSE_SVD;
+  co.num_threads = 1;
+  ceres::Covariance covariance(co);
+  std::vector<std::pair<const double*, const double*>> blocks = {{x.data(), x.data()}};
+  bool ok = undetermined.empty() && covariance.Compute(blocks, &cp);
+  if (ok) {
+    Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor> c(p, p);
+    ok = covariance.GetCovarianceBlock(x.data(), x.data(), c.data());
+    if (ok) report.covariance = c * s2;
+  }
+  if (!ok && undetermined.empty()) {
+    undetermined = "the covariance is rank-deficient (Ceres dense SVD)";
+  }
+  report.covariance_ok = ok;
+  report.rank_deficiency = undetermined;
+}
+
+}  // namespace lw

@@ -1,0 +1,95 @@
+// Output-error least squares for one model structure with Ceres Solver.
+//
+// The model output at sample k is
+//   yhat[k] = y_offset + drift (t[k] - t[0]) + K (w0 x1[k] + w1 x2[k]),
+// the exact response (response_kernel.h) to the recorded input deviations v held between
+// samples, and the solver minimises  sum_k weight[k] (yhat[k] - y[k])^2  over the parameter
+// vector
+//   x = [structure parameters in their fixed order..., y_offset, drift]
+// within bounds, any subset held fixed. The Jacobian is exact: the kernel runs on Ceres Jets
+// for the parameters that shape the states, and the output's linear parameters are
+// differentiated by hand (a test checks both against central differences).
+//
+// The covariance of x is Ceres' (J'J)^-1 (ceres::Covariance, dense SVD) scaled by the residual
+// variance s^2 = RSS / (n - p) with p the number of free parameters.
+#ifndef LOOPWRIGHT_IDENTIFY_OUTPUT_ERROR_H_
+#define LOOPWRIGHT_IDENTIFY_OUTPUT_ERROR_H_
+
+#include <span>
+#include <string>
+#include <vector>
+
+#include <Eigen/Dense>
+
+#include "identify/model_structure.h"
+#include "identify/response_kernel.h"
+
+namespace lw {
+
+// The data and model of one output-error problem. The spans must outlive every call using it.
+struct OutputErrorProblem {
+  Structure structure = Structure::kFopdt;
+  std::span<const double> t;       // s, strictly increasing
+  std::span<const double> v;       // input deviation from its baseline, held between samples
+  std::span<const double> y;       // measured output
+  std::span<const double> weight;  // optional per-sample weights >= 0 (empty: all 1)
+  bool zero_initial = false;       // start from the zero state with zero input history
+  size_t first_residual = 0;       // samples before this one are simulated but not fitted
+};
+
+// Size of x: structure parameters + y_offset + drift.
+inline int FullParameterCount(Structure s) { return ParameterCount(s) + 2; }
+inline int OffsetIndex(Structure s) { return ParameterCount(s); }
+inline int DriftIndex(Structure s) { return ParameterCount(s) + 1; }
+
+// Residuals r[k] = sqrt(weight[k]) (yhat[k] - y[k]) for k >= first_residual and, when jacobian
+// is not null, their Jacobian (row-major, rows x FullParameterCount) with respect to x.
+void EvaluateOutputError(const OutputErrorProblem& problem, std::span<const double> x,
+                         double* residuals, double* jacobian);
+// The model output yhat[k] for every sample.
+std::vector<double> PredictOutput(const OutputErrorProblem& problem, std::span<const double> x);
+// J'J accumulated row by row (no N x p storage).
+Eigen::MatrixXd NormalMatrix(const OutputErrorProblem& problem, std::span<const double> x);
+
+struct SolveOptions {
+  int max_iterations = 100;
+  double function_tolerance = 1e-12;
+  double parameter_tolerance = 1e-12;
+  double gradient_tolerance = 1e-14;
+  bool compute_covariance = true;
+};
+
+struct SolveReport {
+  std::vector<double> x;
+  double rss = 0.0;      // sum of weighted squared residuals at x
+  size_t residuals = 0;  // number of fitted samples
+  int free_parameters = 0;
+  int iterations = 0;
+  bool converged = false;   // Ceres reported convergence (not a limit or failure)
+  std::string termination;  // Ceres' termination type and message
+  double seconds = 0.0;
+  // Covariance of x (full size; rows/columns of fixed parameters are zero), scaled by
+  // rss / (residuals - free_parameters). Empty when not computed.
+  Eigen::MatrixXd covariance;
+  bool covariance_ok = false;
+  // When the data cannot determine some combination: a sentence naming the parameter that
+  // dominates it (from an SVD of the column-scaled J'J), otherwise empty.
+  std::string rank_deficiency;
+};
+
+// Solves from `start` (full size). fixed[i] holds x[i] at its start value; lower/upper are
+// bounds (use +-infinity for none). Throws UsageError on size mismatches.
+SolveReport SolveOutputError(const OutputErrorProblem& problem, std::vector<double> start,
+                             const std::vector<bool>& fixed, const std::vector<double>& lower,
+                             const std::vector<double>& upper, const SolveOptions& options = {});
+
+// Covariance and rank diagnosis at x (fills the covariance fields of report).
+void ComputeOutputErrorCovariance(const OutputErrorProblem& problem, const std::vector<bool>& fixed,
+                                  SolveReport& report);
+
+// Names of x's entries: the structure's names, then "output_offset", "output_drift".
+std::vector<std::string> FullParameterNames(Structure s);
+
+}  // namespace lw
+
+#endif  // LOOPWRIGHT_IDENTIFY_OUTPUT_ERROR_H_
