@@ -1,0 +1,419 @@
+// Method (see simulate.h and zoh.h for the equations).
+//
+// Open loop. The rational part is realised (state_space.h) and the input is delayed by T
+// exactly: on a uniform grid (every t[k] within 1e-9 h of t[0] + k h) the model is sampled once
+// with the split-interval ZOH of zoh.h and run as a recursion; on any other grid the state is
+// carried from t[i] to t[i+1] through the sub-intervals where the delayed input u(t - T) is
+// constant (it switches at t[j] + T), each with the exact hold blocks of that sub-interval's
+// length, cached by length rounded to about 1e-12 relative. Switch times within 1e-9 of an
+// interval of a sample time are taken as that sample time.
+//
+// Closed loop without dead time: the loop is rational, so the closed loop from r to (y, u) is
+// realised as one state-space model and simulated exactly like the open loop.
+//
+// Closed loop with dead time T > 0. The plant and controller states z = [x_p; x_c] obey
+//   z' = A z + B_r r + B_w w,   w(t) = u(t - T),   u = C_u z + D_ur r + D_uw w,   y = C_y z + D_y
+//   w,
+// where w is the delayed actuator signal. Between samples the loop is advanced by internal
+// steps of length h_i no longer than the sample interval, T, or a tenth of the fastest time
+// constant among the plant poles, controller poles and delay-free closed-loop poles. Because
+// h_i <= T, the w a step needs lies in the already computed past: it is a history of u stored
+// as one cubic polynomial per internal step, interpolating u at four equally spaced nodes of
+// the step. Each step is split where the delayed history changes piece, and on each part z is
+// advanced exactly for the polynomial w (Van Loan block exponential, zoh.h). The only
+// approximation is the cubic interpolation of u within each step (local error O(h_i^4)); r is
+// held, and every internal step boundary falls on the sample times where r switches.
+#include "lti/simulate.h"
+
+#include <array>
+#include <cmath>
+#include <limits>
+#include <string>
+#include <unordered_map>
+
+#include <Eigen/Dense>
+
+#include "lti/error.h"
+#include "lti/state_space.h"
+#include "lti/zoh.h"
+
+namespace lw {
+namespace {
+
+using Eigen::MatrixXd;
+using Eigen::RowVectorXd;
+using Eigen::VectorXd;
+
+void CheckGrid(std::span<const double> t, std::span<const double> u, const char* what) {
+  if (t.size() != u.size()) {
+    throw UsageError("simulation needs one " + std::string(what) + " value per time: got " +
+                     std::to_string(t.size()) + " times and " + std::to_string(u.size()) +
+                     " values");
+  }
+  if (t.empty()) throw UsageError("simulation needs at least one time");
+  for (size_t i = 0; i < t.size(); ++i) {
+    if (!std::isfinite(t[i]) || !std::isfinite(u[i])) {
+      throw UsageError("simulation sample " + std::to_string(i) + " has a non-finite time or " +
+                       what + " value");
+    }
+    if (i > 0 && !(t[i] > t[i - 1])) {
+      throw UsageError("simulation times must increase strictly: t[" + std::to_string(i) +
+                       "] = " + std::to_string(t[i]) + " follows " + std::to_string(t[i - 1]));
+    }
+  }
+}
+
+// The mean period when t is uniform to 1e-9 of it, else 0.
+double UniformPeriod(std::span<const double> t) {
+  const size_t n = t.size();
+  if (n < 2) return 0.0;
+  const double h = (t[n - 1] - t[0]) / static_cast<double>(n - 1);
+  for (size_t k = 1; k < n; ++k) {
+    if (std::abs(t[k] - (t[0] + static_cast<double>(k) * h)) > 1e-9 * h) return 0.0;
+  }
+  return h;
+}
+
+// Hold blocks cached by interval length rounded to 2^-41 relative (about 5e-13).
+class HoldCache {
+ public:
+  HoldCache(MatrixXd a, MatrixXd b, int degree)
+      : a_(std::move(a)), b_(std::move(b)), degree_(degree) {}
+  const HoldBlocks& Get(double length) {
+    int e = 0;
+    const double mantissa = std::frexp(length, &e);
+    const auto q = static_cast<uint64_t>(std::llround(mantissa * 0x1p41));
+    const uint64_t key = (static_cast<uint64_t>(e + 4096) << 43) | q;
+    auto it = map_.find(key);
+    if (it == map_.end()) it = map_.emplace(key, ExactHold(a_, b_, length, degree_)).first;
+    return it->second;
+  }
+
+ private:
+  MatrixXd a_, b_;
+  int degree_;
+  std::unordered_map<uint64_t, HoldBlocks> map_;
+};
+
+// y[k] = c x[k] + d u(t_k - T) on a uniform grid, x[k+1] by the sampled recursion. u(j) for
+// j < 0 is `before`. N is the state order at compile time (Eigen::Dynamic for any).
+template <int N>
+void RunSampled(const SampledStateSpace& s, std::span<const double> u, double before,
+                const VectorXd& x_start, std::vector<double>& y) {
+  using Mat = Eigen::Matrix<double, N, N>;
+  using Vec = Eigen::Matrix<double, N, 1>;
+  using Row = Eigen::Matrix<double, 1, N>;
+  const Mat phi = s.phi;
+  const Vec gl = s.gamma_late, ge = s.gamma_early;
+  const Row c = s.c;
+  const double d = s.d;
+  Vec x = x_start;
+  const long n = static_cast<long>(u.size());
+  const long m = s.whole_delay, lag = s.output_lag();
+  const auto at = [&](long j) { return j < 0 ? before : u[j]; };
+  const long head = std::min(n, m + 1);
+  long k = 0;
+  for (; k < head; ++k) {
+    y[k] = c.dot(x) + d * at(k - lag);
+    x = phi * x + gl * at(k - m) + ge * at(k - m - 1);
+  }
+  const double* um = u.data() - m;  // um[k] = u[k - m], valid for k > m
+  for (; k < n; ++k) {
+    y[k] = c.dot(x) + d * um[k - lag + m];
+    x = phi * x + gl * um[k] + ge * um[k - 1];
+  }
+}
+
+void RunSampledAnyOrder(const SampledStateSpace& s, std::span<const double> u, double before,
+                        const VectorXd& x0, std::vector<double>& y) {
+  using Runner = void (*)(const SampledStateSpace&, std::span<const double>, double,
+                          const VectorXd&, std::vector<double>&);
+  // Fixed-size kernels for the orders that matter for speed; any other order is dynamic.
+  static constexpr Runner kFixed[] = {&RunSampled<1>, &RunSampled<2>, &RunSampled<3>,
+                                      &RunSampled<4>, &RunSampled<5>, &RunSampled<6>};
+  const auto order = static_cast<size_t>(s.phi.rows());
+  const Runner run = order >= 1 && order <= 6 ? kFixed[order - 1] : &RunSampled<Eigen::Dynamic>;
+  run(s, u, before, x0, y);
+}
+
+// Any grid: x' = a x + b v(t), v(t) = u(t - delay) held (u(t) = `before` for t < t[0]);
+// outputs rows of c_out x + d_out v at every t[i] into out[row][i].
+void WalkHeld(const MatrixXd& a, const VectorXd& b, const MatrixXd& c_out, const VectorXd& d_out,
+              double delay, std::span<const double> t, std::span<const double> u, double before,
+              VectorXd x, std::vector<std::vector<double>*> out) {
+  HoldCache cache(a, b, 0);
+  const long n = static_cast<long>(t.size());
+  long j = -1;  // the input sample the delayed input currently holds (-1: before t[0])
+  const auto value = [&](long i) { return i < 0 ? before : u[i]; };
+  const auto advance = [&](double length) {
+    if (length <= 0.0) return;
+    const HoldBlocks& hb = cache.Get(length);
+    x = hb.phi * x + hb.gamma[0] * value(j);
+  };
+  for (long i = 0; i < n; ++i) {
+    const double tol = 1e-9 * (i + 1 < n ? t[i + 1] - t[i] : t[i] - t[i - (i > 0)]);
+    while (j + 1 < n && t[j + 1] + delay <= t[i] + tol) ++j;
+    const VectorXd yi = c_out * x + d_out * value(j);
+    for (size_t r = 0; r < out.size(); ++r) (*out[r])[i] = yi(r);
+    if (i + 1 == n) break;
+    double now = t[i];
+    const double end = t[i + 1];
+    while (true) {
+      const double next = j + 1 < n ? t[j + 1] + delay : std::numeric_limits<double>::infinity();
+      if (next >= end - tol) {
+        advance(end - now);
+        break;
+      }
+      advance(next - now);
+      now = std::max(now, next);
+      ++j;
+    }
+  }
+}
+
+// The closed loop split as in the header comment: z' = A z + B [r; w].
+struct LoopModel {
+  MatrixXd a, b;  // b: nz x 2, columns r and w
+  RowVectorXd cu, cy;
+  double dur = 0.0, duw = 0.0, dy = 0.0;
+};
+
+LoopModel BuildLoop(const StateSpace& p, const StateSpace& c) {
+  const int np = p.order(), nc = c.order(), nz = np + nc;
+  LoopModel m;
+  m.a = MatrixXd::Zero(nz, nz);
+  m.a.topLeftCorner(np, np) = p.a;
+  m.a.block(np, 0, nc, np) = -c.b * p.c;
+  m.a.bottomRightCorner(nc, nc) = c.a;
+  m.b = MatrixXd::Zero(nz, 2);
+  m.b.block(np, 0, nc, 1) = c.b;
+  m.b.block(0, 1, np, 1) = p.b;
+  m.b.block(np, 1, nc, 1) = -c.b * p.d;
+  m.cu = RowVectorXd::Zero(nz);
+  m.cu.head(np) = -c.d * p.c;
+  m.cu.tail(nc) = c.c;
+  m.dur = c.d;
+  m.duw = -c.d * p.d;
+  m.cy = RowVectorXd::Zero(nz);
+  m.cy.head(np) = p.c;
+  m.dy = p.d;
+  return m;
+}
+
+// u(t) on [start, end): sum_k coef[k] (t - start)^k.
+constexpr int kPieceDegree = 3;
+struct Piece {
+  double start, end;
+  std::array<double, kPieceDegree + 1> coef;
+};
+
+// Coefficients of q(s) = p(delta + s).
+std::array<double, kPieceDegree + 1> Shift(const std::array<double, kPieceDegree + 1>& p,
+                                           double delta) {
+  std::array<double, kPieceDegree + 1> q = p;
+  // Repeated synthetic division (Taylor shift).
+  for (int i = 0; i < kPieceDegree; ++i) {
+    for (int k = kPieceDegree - 1; k >= i; --k) q[k] += delta * q[k + 1];
+  }
+  return q;
+}
+
+double Eval(const std::array<double, kPieceDegree + 1>& p, double s) {
+  double v = 0.0;
+  for (int k = kPieceDegree; k >= 0; --k) v = v * s + p[k];
+  return v;
+}
+
+double FastestRate(const TransferFunction& plant, const TransferFunction& ctrl) {
+  double rate = 0.0;
+  const Polynomial loop = plant.den() * ctrl.den() + plant.num() * ctrl.num();
+  for (const Polynomial* p : {&plant.den(), &ctrl.den(), &loop}) {
+    for (const auto& r : p->roots()) rate = std::max(rate, std::abs(r));
+  }
+  return rate;
+}
+
+class DelayedLoop {
+ public:
+  DelayedLoop(const LoopModel& m, double delay, double before, double t0)
+      : m_(m), delay_(delay), cache_(m.a, m.b, kPieceDegree) {
+    pieces_.push_back({t0 - delay, t0, {before, 0.0, 0.0, 0.0}});
+    // Inverse Vandermonde matrix of the nodes 0, 1/3, 2/3, 1.
+    Eigen::Matrix4d v;
+    for (int i = 0; i < 4; ++i) {
+      for (int k = 0; k < 4; ++k) v(i, k) = std::pow(i / 3.0, k);
+    }
+    vinv_ = v.inverse();
+  }
+
+  // w(s+) for s the start of the next step.
+  double WRight(double s, double tol) {
+    while (cursor_ + 1 < pieces_.size() && s - delay_ >= pieces_[cursor_].end - tol) ++cursor_;
+    const Piece& p = pieces_[cursor_];
+    return Eval(p.coef, s - delay_ - p.start);
+  }
+
+  double U(const VectorXd& z, double r, double w) const {
+    return m_.cu.dot(z) + m_.dur * r + m_.duw * w;
+  }
+  double Y(const VectorXd& z, double w) const { return m_.cy.dot(z) + m_.dy * w; }
+
+  // One internal step [a, b] from state z (at a, with u(a+) = u0); appends the u piece.
+  void Step(VectorXd& z, double a, double b, double r, double u0) {
+    const double len = b - a, tol = 1e-10 * len;
+    std::array<double, 4> nodes{u0, 0.0, 0.0, 0.0};
+    double now = a;
+    for (int i = 1; i <= 3; ++i) {
+      const double target = i == 3 ? b : a + len * i / 3.0;
+      double w_left = 0.0;
+      while (now < target - tol) {
+        while (cursor_ + 1 < pieces_.size() && now - delay_ >= pieces_[cursor_].end - tol) {
+          ++cursor_;
+        }
+        const Piece& p = pieces_[cursor_];
+        double seg_end = std::min(target, p.end + delay_);
+        // The newest piece may be extrapolated by rounding (a step a hair longer than T).
+        if (seg_end > target - tol || cursor_ + 1 == pieces_.size()) seg_end = target;
+        const auto w = Shift(p.coef, now - delay_ - p.start);
+        const double l = seg_end - now;
+        const HoldBlocks& hb = cache_.Get(l);
+        VectorXd next = hb.phi * z + hb.gamma[0].col(0) * r;
+        for (int k = 0; k <= kPieceDegree; ++k) next += hb.gamma[k].col(1) * w[k];
+        z = std::move(next);
+        w_left = Eval(w, l);
+        now = seg_end;
+      }
+      nodes[i] = U(z, r, w_left);
+    }
+    Eigen::Vector4d c = vinv_ * Eigen::Map<const Eigen::Vector4d>(nodes.data());
+    Piece piece{a, b, {}};
+    double scale = 1.0;
+    for (int k = 0; k < 4; ++k) {
+      piece.coef[k] = c(k) / scale;
+      scale *= len;
+    }
+    pieces_.push_back(piece);
+    if (cursor_ > 4096) {
+      pieces_.erase(pieces_.begin(), pieces_.begin() + static_cast<long>(cursor_));
+      cursor_ = 0;
+    }
+  }
+
+ private:
+  const LoopModel& m_;
+  double delay_;
+  HoldCache cache_;
+  std::vector<Piece> pieces_;
+  size_t cursor_ = 0;
+  Eigen::Matrix4d vinv_;
+};
+
+}  // namespace
+
+std::vector<double> Simulate(const TransferFunction& plant, std::span<const double> t,
+                             std::span<const double> u, const SimulateOptions& options) {
+  CheckGrid(t, u, "input");
+  const StateSpace ss = Realize(plant);
+  const bool at_rest =
+      options.initial == SimulateOptions::Initial::kSteadyState && !HasRootAtOrigin(plant.den());
+  const double before = at_rest ? u[0] : 0.0;
+  const VectorXd x0 = at_rest ? SteadyState(ss, u[0]) : VectorXd::Zero(ss.order());
+  std::vector<double> y(t.size());
+  const double h = UniformPeriod(t);
+  if (h > 0.0) {
+    RunSampledAnyOrder(SampleZoh(ss, h, plant.delay()), u, before, x0, y);
+  } else {
+    WalkHeld(ss.a, ss.b, ss.c, VectorXd::Constant(1, ss.d), plant.delay(), t, u, before, x0, {&y});
+  }
+  return y;
+}
+
+ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Controller& controller,
+                                      double gain, std::span<const double> t,
+                                      std::span<const double> r, const SimulateOptions& options) {
+  CheckGrid(t, r, "reference");
+  if (!std::isfinite(gain)) throw UsageError("controller gain must be finite");
+  const TransferFunction ctrl = controller.WithGain(gain);
+  const StateSpace p = Realize(plant);
+  const StateSpace c = Realize(ctrl);
+  if (std::abs(1.0 + p.d * c.d) < 1e-12) {
+    throw UsageError(
+        "the loop has no solution: the plant's and controller's direct gains "
+        "multiply to -1");
+  }
+  const LoopModel m = BuildLoop(p, c);
+  const int nz = static_cast<int>(m.a.rows());
+
+  // Equilibrium for r[0]: A z + B_w u0 = -B_r r0, C_u z + (D_uw - 1) u0 = -D_ur r0.
+  VectorXd z0 = VectorXd::Zero(nz);
+  double u_before = 0.0;
+  const Polynomial characteristic = plant.den() * ctrl.den() + plant.num() * ctrl.num();
+  if (options.initial == SimulateOptions::Initial::kSteadyState &&
+      !HasRootAtOrigin(characteristic)) {
+    MatrixXd e(nz + 1, nz + 1);
+    e.topLeftCorner(nz, nz) = m.a;
+    e.topRightCorner(nz, 1) = m.b.col(1);
+    e.bottomLeftCorner(1, nz) = m.cu;
+    e(nz, nz) = m.duw - 1.0;
+    VectorXd rhs(nz + 1);
+    rhs.head(nz) = -m.b.col(0) * r[0];
+    rhs(nz) = -m.dur * r[0];
+    const VectorXd sol = e.fullPivLu().solve(rhs);
+    z0 = sol.head(nz);
+    u_before = sol(nz);
+  }
+
+  ClosedLoopResponse out;
+  out.u.resize(t.size());
+  out.y.resize(t.size());
+  const double delay = plant.delay();
+  if (delay == 0.0) {
+    // Rational loop: u = (C_u z + D_ur r) / (1 - D_uw), one state-space model from r.
+    const double k = 1.0 / (1.0 - m.duw);
+    const RowVectorXd cu = m.cu * k;
+    const double du = m.dur * k;
+    const MatrixXd a = m.a + m.b.col(1) * cu;
+    const VectorXd b = m.b.col(0) + m.b.col(1) * du;
+    MatrixXd c_out(2, nz);
+    c_out.row(0) = m.cy + m.dy * cu;
+    c_out.row(1) = cu;
+    const Eigen::Vector2d d_out(m.dy * du, du);
+    WalkHeld(a, b, c_out, d_out, 0.0, t, r, r[0], z0, {&out.y, &out.u});
+    return out;
+  }
+
+  double max_step = delay;
+  const double rate = FastestRate(plant, ctrl);
+  if (rate > 0.0) max_step = std::min(max_step, 0.1 / rate);
+  double steps = 0.0;
+  for (size_t k = 0; k + 1 < t.size(); ++k) steps += std::ceil((t[k + 1] - t[k]) / max_step);
+  if (steps > 5e7) {
+    throw UsageError("closed-loop simulation would need " + std::to_string(steps) +
+                     " internal steps of " + std::to_string(max_step) +
+                     " s (dead time or closed-loop time constant far shorter than the record); "
+                     "shorten the record or simulate the delay-free loop");
+  }
+
+  DelayedLoop loop(m, delay, u_before, t[0]);
+  VectorXd z = z0;
+  const size_t n = t.size();
+  for (size_t k = 0; k < n; ++k) {
+    const double tol = 1e-10 * (k + 1 < n ? t[k + 1] - t[k] : 1.0);
+    double w = loop.WRight(t[k], tol);
+    out.y[k] = loop.Y(z, w);
+    out.u[k] = loop.U(z, r[k], w);
+    if (k + 1 == n) break;
+    const double h = t[k + 1] - t[k];
+    const long q = std::max(1L, static_cast<long>(std::ceil(h / max_step - 1e-9)));
+    double u0 = out.u[k];
+    for (long j = 0; j < q; ++j) {
+      const double a = t[k] + h * static_cast<double>(j) / static_cast<double>(q);
+      const double b = j + 1 == q ? t[k + 1] : t[k] + h * static_cast<double>(j + 1) / q;
+      if (j > 0) u0 = loop.U(z, r[k], loop.WRight(a, 1e-10 * (b - a)));
+      loop.Step(z, a, b, r[k], u0);
+    }
+  }
+  return out;
+}
+
+}  // namespace lw
