@@ -13,6 +13,7 @@
 // power, since the result would not be N(s)/D(s) exp(-T s) with T >= 0.
 #include "lti/plant_formula.h"
 
+#include <algorithm>
 #include <cctype>
 #include <charconv>
 #include <cmath>
@@ -22,6 +23,10 @@ namespace lw {
 namespace {
 
 constexpr int kMaxPower = 64;
+// Limits that keep hostile input cheap: plants are low order, and every nesting level (a
+// parenthesis or a sign) costs a few stack frames.
+constexpr int kMaxDegree = 100;
+constexpr int kMaxDepth = 200;
 
 // N(s)/D(s), optionally times exp(-T s). exp_column is the column of the exp factor (0: none).
 struct Rational {
@@ -158,6 +163,33 @@ class Parser {
     return std::string(text_.substr(start, pos_ - start));
   }
 
+  // --- Limits -----------------------------------------------------------------------------
+  [[noreturn]] void FailDegree(int column, int degree) const {
+    FailAt(column, "the formula reaches degree " + std::to_string(degree) + " in s; at most " +
+                       std::to_string(kMaxDegree) + " is supported");
+  }
+  void CheckDegree(int column, const Rational& r) const {
+    const int degree = std::max(r.num.degree(), r.den.degree());
+    if (degree > kMaxDegree) FailDegree(column, degree);
+  }
+  // Counts the nesting depth for as long as it lives.
+  class DepthGuard {
+   public:
+    explicit DepthGuard(Parser& p) : p_(p) {
+      if (++p_.depth_ > kMaxDepth) {
+        --p_.depth_;
+        p_.Fail("the formula nests more than " + std::to_string(kMaxDepth) +
+                " levels of parentheses and signs");
+      }
+    }
+    ~DepthGuard() { --p_.depth_; }
+    DepthGuard(const DepthGuard&) = delete;
+    DepthGuard& operator=(const DepthGuard&) = delete;
+
+   private:
+    Parser& p_;
+  };
+
   // --- Grammar ----------------------------------------------------------------------------
   Rational Sum() {
     Rational left = Product();
@@ -186,6 +218,7 @@ class Parser {
         r.num = Checked(column, [&] { return op == '+' ? ad + cb : ad - cb; });
         r.den = Checked(column, [&] { return left.den * right.den; });
       }
+      CheckDegree(column, r);
       left = r;
     }
   }
@@ -210,6 +243,7 @@ class Parser {
       }
       left.num = Checked(column, [&] { return left.num * right.num; });
       left.den = Checked(column, [&] { return left.den * right.den; });
+      CheckDegree(column, left);
       if (right.exp_column) {
         left.exp_column = right.exp_column;
         left.delay = right.delay;
@@ -219,6 +253,7 @@ class Parser {
 
   Rational Signed() {
     SkipSpace();
+    const DepthGuard guard(*this);
     if (Peek() == '-' || Peek() == '+') {
       const char sign = Peek();
       const int column = Column();
@@ -261,6 +296,8 @@ class Parser {
       Fail("a power cannot itself be raised to a power; use parentheses, e.g. '(" +
            std::string(text_.substr(start, pos_ - start)) + ")^2'");
     }
+    const int degree = std::max(base.num.degree(), base.den.degree()) * n;
+    if (degree > kMaxDegree) FailDegree(caret_column, degree);
     Rational r;
     for (int i = 0; i < n; ++i) {
       r.num = Checked(caret_column, [&] { return r.num * base.num; });
@@ -353,6 +390,7 @@ class Parser {
   std::string_view text_;
   size_t pos_ = 0;
   bool exp_seen_ = false;
+  int depth_ = 0;
 };
 
 }  // namespace

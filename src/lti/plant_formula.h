@@ -5,6 +5,8 @@
 // exp(-s*T), exp(-T s) is not accepted: multiplication is explicit) with T >= 0 a number.
 // Spaces are ignored. The result must be a ratio of polynomials; the exp factor may stand anywhere
 // a factor may (it multiplies the whole formula).
+// Limits: powers up to 64, degree in s up to 100 (numerator and denominator), and at most 200
+// nested levels of parentheses and signs.
 #ifndef LOOPWRIGHT_LTI_PLANT_FORMULA_H_
 #define LOOPWRIGHT_LTI_PLANT_FORMULA_H_
 
@@ -19,8 +21,7 @@ namespace lw {
 //   "plant formula, column 9: expected ')' after '(4*s+1', found end of formula".
 class FormulaError : public UsageError {
  public:
-  FormulaError(int column, const std::string& message)
-      : UsageError(message), column_(column) {}
+  FormulaError(int column, const std::string& message) : UsageError(message), column_(column) {}
   int column() const { return column_; }  // 1-based
 
  private:

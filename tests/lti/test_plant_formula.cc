@@ -160,6 +160,25 @@ TEST_CASE("formula errors name the column and what was expected") {
     CHECK(f.message ==
           "plant formula, column " + std::to_string(c.column) + ": " + std::string(c.message));
   }
+  // Limits that keep hostile input cheap.
+  const Failure deep = Fails(std::string(250, '(') + "s" + std::string(250, ')'));
+  CHECK(deep.column == 201);
+  CHECK(deep.message ==
+        "plant formula, column 201: the formula nests more than 200 levels of parentheses and "
+        "signs");
+  CHECK(Fails(std::string(300, '-') + "s").column == 201);
+  CHECK(ParsePlantFormula(std::string(150, '(') + "s" + std::string(150, ')')).num() ==
+        Polynomial({1.0, 0.0}));
+  CHECK(ParsePlantFormula(std::string(150, '-') + "s").num() == Polynomial({1.0, 0.0}));
+  const Failure product = Fails("s^64*s^64");
+  CHECK(product.column == 5);
+  CHECK(product.message ==
+        "plant formula, column 5: the formula reaches degree 128 in s; at most 100 is supported");
+  CHECK(Fails("((s^10)^20)").column == 8);
+  CHECK(Fails("((s^10)^20)").message.find("degree 200") != std::string::npos);
+  CHECK(Fails("1/s^64 + 1/(s+1)^64").column == 8);
+  CHECK(ParsePlantFormula("1/(s+1)^50 * s^50").den().degree() == 50);
+
   // Every formula error is a usage error (exit status 2).
   CHECK_THROWS_AS(ParsePlantFormula("s+"), UsageError);
   CHECK(Fails("1e300*1e300/s").message.find("overflow") != std::string::npos);

@@ -199,6 +199,22 @@ TEST_CASE("roots of a degree-8 polynomial with spread magnitudes") {
   }
 }
 
+TEST_CASE("roots sixteen decades apart are each accurate relative to their own size") {
+  // s^2 + 1e8 s + 1 has roots near -1e8 and -1e-8 (product 1, sum -1e8, by Vieta). An
+  // eigenvalue solver gives the small one with an absolute error of up to about eps * 1e8;
+  // Newton polishing on p brings it to full relative accuracy.
+  const Polynomial p({1.0, 1e8, 1.0});
+  const auto r = p.roots();
+  REQUIRE(r.size() == 2);
+  // Quadratic formula in the cancellation-free form: r1 = -(b + sqrt(b^2 - 4)) / 2, r2 = 1 / r1.
+  const double big = -(1e8 + std::sqrt(1e16 - 4.0)) / 2.0;
+  const double small = 1.0 / big;
+  CHECK(r[0].real() == doctest::Approx(big).epsilon(1e-14));
+  CHECK(r[1].real() == doctest::Approx(small).epsilon(1e-14));
+  CHECK(r[0].imag() == 0.0);
+  CHECK(r[1].imag() == 0.0);
+}
+
 TEST_CASE("polynomial text form") {
   CHECK(Polynomial({2.0, 0.5, 1.0}).ToString() == "2*s^2 + 0.5*s + 1");
   CHECK(Polynomial({-1.0, 0.0, 0.0, -2.0}).ToString() == "-s^3 - 2");
