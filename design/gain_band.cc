@@ -1,0 +1,114 @@
+#include "design/gain_band.h"
+
+#include <cmath>
+#include <limits>
+
+namespace lw {
+namespace {
+
+using Complex = std::complex<double>;
+constexpr double kInf = std::numeric_limits<double>::infinity();
+const double kNaN = std::numeric_limits<double>::quiet_NaN();
+
+// A stretch of gains with one verdict; lo_edge/hi_edge describe what bounds it.
+struct Piece {
+  double lo, hi;
+  bool meets;
+  BandEdge lo_edge, hi_edge;
+};
+
+double LogPoint(double lo, double hi, double f) { return lo * std::pow(hi / lo, f); }
+
+// Bisection in log K between a gain with verdict `va` and one with the opposite verdict.
+double LocateSwitch(const LoopPolynomials& loop, const Region& region, double a, double b,
+                    bool va) {
+  for (int it = 0; it < 200 && b / a - 1.0 > 1e-12; ++it) {
+    double m = std::sqrt(a * b);
+    if (JudgeGain(loop, region, m).meets == va)
+      a = m;
+    else
+      b = m;
+  }
+  return std::sqrt(a * b);
+}
+
+BandEdge EdgeAt(const LoopPolynomials& loop, const Region& region, double gain, Boundary b,
+                Complex pole) {
+  BandEdge e{gain, b, pole, Complex(kNaN, kNaN)};
+  if (gain > 0.0 && std::isfinite(gain)) e.dominant = JudgeGain(loop, region, gain).dominant;
+  return e;
+}
+
+}  // namespace
+
+PoleVerdict JudgeGain(const LoopPolynomials& loop, const Region& region, double gain) {
+  return JudgePoles(loop.PolesAt(gain), region);
+}
+
+GainSet LocusBand::gains() const {
+  GainSet g;
+  for (const auto& i : intervals) g.push_back({i.lo.gain, i.hi.gain});
+  return g;
+}
+
+LocusBand FindLocusBand(const LoopPolynomials& loop, const Region& region) {
+  LocusBand band;
+  band.region = region;
+  band.pade_order = loop.pade_order;
+  band.crossings = AllCrossings(loop, region);
+  // Unique gains (1e-10 relative), each with the first crossing found there.
+  std::vector<BoundaryCrossing> cuts;
+  for (const auto& c : band.crossings) {
+    if (!cuts.empty() && c.gain <= cuts.back().gain * (1.0 + 1e-10)) continue;
+    cuts.push_back(c);
+  }
+  const Complex nan_pole(kNaN, kNaN);
+  // Interval bounds: 0, cuts..., inf.
+  std::vector<BandEdge> bounds;
+  bounds.push_back({0.0, Boundary::kGainZero, nan_pole, nan_pole});
+  for (const auto& c : cuts) bounds.push_back(EdgeAt(loop, region, c.gain, c.boundary, c.pole));
+  bounds.push_back({kInf, Boundary::kUnbounded, nan_pole, nan_pole});
+
+  double ref = 1.0;  // a gain scale when there are no cuts: |a/b| at the frequency scale
+  if (cuts.empty()) {
+    Complex s(0.0, loop.FrequencyScale());
+    ref = std::abs(loop.a(s)) / std::max(std::abs(loop.b(s)), 1e-300);
+  }
+  std::vector<Piece> pieces;
+  for (size_t i = 0; i + 1 < bounds.size(); ++i) {
+    double lo = bounds[i].gain, hi = bounds[i + 1].gain;
+    double jl = lo > 0.0 ? lo : (std::isfinite(hi) ? hi * 1e-3 : ref * 1e-3);
+    double jh = std::isfinite(hi) ? hi : (lo > 0.0 ? lo * 1e3 : ref * 1e3);
+    const double fr[3] = {0.02, 0.5, 0.98};
+    double g[3];
+    bool v[3];
+    for (int k = 0; k < 3; ++k) {
+      g[k] = LogPoint(jl, jh, fr[k]);
+      v[k] = JudgeGain(loop, region, g[k]).meets;
+    }
+    // Split at switches between disagreeing samples.
+    std::vector<Piece> local;
+    local.push_back({lo, hi, v[0], bounds[i], bounds[i + 1]});
+    for (int k = 0; k < 2; ++k) {
+      if (v[k] == v[k + 1]) continue;
+      double sw = LocateSwitch(loop, region, g[k], g[k + 1], v[k]);
+      BandEdge e = EdgeAt(loop, region, sw, Boundary::kDominanceSwitch, nan_pole);
+      local.back().hi = sw;
+      local.back().hi_edge = e;
+      local.push_back({sw, hi, v[k + 1], e, bounds[i + 1]});
+    }
+    if (local.size() == 1) local.back().meets = v[1];
+    pieces.insert(pieces.end(), local.begin(), local.end());
+  }
+  for (const Piece& p : pieces) {
+    if (!p.meets) continue;
+    if (!band.intervals.empty() && band.intervals.back().hi.gain == p.lo) {
+      band.intervals.back().hi = p.hi_edge;
+    } else {
+      band.intervals.push_back({p.lo_edge, p.hi_edge});
+    }
+  }
+  return band;
+}
+
+}  // namespace lw

@@ -1,0 +1,60 @@
+// The exact locus band: every controller gain K > 0 for which the closed-loop poles of
+// a(s) + K b(s) = 0 (loop_polynomials.h) meet a Region (specs.h, pole_verdict.h).
+//
+// Method (no sweep over K):
+//  1. every gain where some closed-loop pole lies on a region boundary, from
+//     boundary_crossings.h (exact roots of one real polynomial per boundary curve);
+//  2. between two consecutive such gains no pole crosses a boundary, so each pole's membership
+//     of the region is fixed; the verdict can still change where the dominant pole changes
+//     identity (two poles with equal real parts, e.g. a slow real pole overtaken by a pair).
+//     Each interval is therefore judged by JudgePoles at three gains (2 %, 50 % and 98 % of its
+//     width in log K; the middle one decides when all agree), and a disagreement is located by
+//     bisection in log K to 1e-12 relative as a "dominance switch" edge. (A switch and a switch
+//     back between two of those three gains would be missed; the response band is the check.)
+//  3. consecutive meeting intervals are merged into the band: a union of ranges [lo, hi], each
+//     edge with its gain, the boundary that made it, the pole on that boundary and the dominant
+//     pole there.
+// The first interval runs from K = 0 and the last to K = inf (judged at 1e3 times the largest
+// crossing gain; beyond it the poles only approach the zeros of b and the asymptotes).
+#ifndef LOOPWRIGHT_DESIGN_GAIN_BAND_H_
+#define LOOPWRIGHT_DESIGN_GAIN_BAND_H_
+
+#include <complex>
+#include <vector>
+
+#include "design/boundary_crossings.h"
+#include "design/gain_intervals.h"
+#include "design/loop_polynomials.h"
+#include "design/pole_verdict.h"
+#include "design/specs.h"
+
+namespace lw {
+
+struct BandEdge {
+  double gain = 0.0;  // 0 or inf for the open ends
+  Boundary boundary = Boundary::kGainZero;
+  std::complex<double> pole;      // the pole on the boundary (NaN for open ends and switches)
+  std::complex<double> dominant;  // the dominant pole at this gain, Im >= 0 (NaN at 0 and inf)
+};
+
+struct BandInterval {
+  BandEdge lo, hi;
+};
+
+struct LocusBand {
+  Region region;
+  int pade_order = 0;  // from the loop: the dead time's approximant order, 0 without dead time
+  std::vector<BandInterval> intervals;      // the band, sorted, disjoint
+  std::vector<BoundaryCrossing> crossings;  // every boundary gain found, sorted
+  GainSet gains() const;                    // intervals as [lo, hi] ranges
+  bool empty() const { return intervals.empty(); }
+};
+
+LocusBand FindLocusBand(const LoopPolynomials& loop, const Region& region);
+
+// JudgePoles(loop.PolesAt(gain), region).
+PoleVerdict JudgeGain(const LoopPolynomials& loop, const Region& region, double gain);
+
+}  // namespace lw
+
+#endif  // LOOPWRIGHT_DESIGN_GAIN_BAND_H_
