@@ -47,7 +47,13 @@ class Parser {
       if (Peek() == ')') Fail("unmatched ')'; there is no '(' before it");
       Fail("expected an operator (+ - * / ^) or end of formula, found " + Describe());
     }
-    return TransferFunction(r.num, r.den, r.delay);
+    try {
+      return TransferFunction(r.num, r.den, r.delay);
+    } catch (const UsageError&) {
+      // Only the scaling to a monic denominator can fail here, by overflowing.
+      FailAt(1,
+             "the coefficients overflow when the denominator is scaled to leading coefficient 1");
+    }
   }
 
  private:
