@@ -223,9 +223,9 @@ TEST_CASE("TransferFunction::ToString parses back to the same transfer function"
 
 TEST_CASE("random token soup: a transfer function or one FormulaError, never anything else") {
   // Fixed seed; pieces of the grammar glued at random, plus raw bytes now and then.
-  const char* pieces[] = {"s", "exp", "(",           ")",     "+",  "-",  "*", "/",
-                          "^", "2",   "0.5",         "1e-3",  "e",  "1e", ".", " ",
-                          "q", "-",   "exp(-0.2*s)", "(s+1)", "^2", "0",  "s^"};
+  const char* pieces[] = {"s",           "exp",   "(",    ")", "+",  "-",     "*",     "/", "^",
+                          "2",           "0.5",   "1e-3", "e", "1e", ".",     " ",     "q", "-",
+                          "exp(-0.2*s)", "(s+1)", "^2",   "0", "s^", "1e300", "1e-300"};
   std::mt19937 rng(7321);
   std::uniform_int_distribution<size_t> pick(0, std::size(pieces) - 1), length(0, 14);
   std::uniform_int_distribution<int> byte(0, 255), coin(0, 19);
