@@ -1,0 +1,173 @@
+#include "design/infeasibility.h"
+
+#include <cmath>
+#include <cstdio>
+#include <functional>
+#include <limits>
+#include <vector>
+
+#include "design/gain_band.h"
+
+namespace lw {
+namespace {
+
+struct Requirement {
+  std::string name;  // "zeta"
+  std::string text;  // "zeta >= 0.8"
+  Region alone;      // only this bound
+  std::function<double(const LoopPolynomials&, double)> quantity;
+};
+
+std::string Num(double v) {
+  char buf[32];
+  std::snprintf(buf, sizeof buf, "%.3g", v);
+  return buf;
+}
+
+Region Merge(const Region& a, const Region& b) {
+  Region r;
+  r.wn_min = std::max(a.wn_min, b.wn_min);
+  r.zeta_min = std::max(a.zeta_min, b.zeta_min);
+  r.sigma_min = std::max(a.sigma_min, b.sigma_min);
+  r.wd_min = std::max(a.wd_min, b.wd_min);
+  r.decay_min = std::max(a.decay_min, b.decay_min);
+  return r;
+}
+
+double SlowestOther(const LoopPolynomials& loop, double k) {
+  auto poles = loop.PolesAt(k);
+  PoleVerdict v = JudgePoles(poles, Region{});
+  double slowest = std::numeric_limits<double>::infinity();
+  bool skipped = false, skipped_conj = v.dominant.imag() == 0.0;
+  for (const auto& p : poles) {
+    if (!skipped && std::abs(p - v.dominant) < 1e-9 * (1 + std::abs(p))) {
+      skipped = true;
+      continue;
+    }
+    if (!skipped_conj && std::abs(p - std::conj(v.dominant)) < 1e-9 * (1 + std::abs(p))) {
+      skipped_conj = true;
+      continue;
+    }
+    slowest = std::min(slowest, -p.real());
+  }
+  return slowest;
+}
+
+std::vector<Requirement> Requirements(const Region& r) {
+  std::vector<Requirement> out;
+  auto shape = [](const LoopPolynomials& l, double k) { return JudgeGain(l, Region{}, k).shape; };
+  if (r.wn_min > 0) {
+    Region a;
+    a.wn_min = r.wn_min;
+    out.push_back({"wn", "wn >= " + Num(r.wn_min) + " rad/s", a,
+                   [=](const LoopPolynomials& l, double k) { return shape(l, k).wn; }});
+  }
+  if (r.zeta_min > 0) {
+    Region a;
+    a.zeta_min = r.zeta_min;
+    out.push_back({"zeta", "zeta >= " + Num(r.zeta_min), a,
+                   [=](const LoopPolynomials& l, double k) { return shape(l, k).zeta; }});
+  }
+  if (r.sigma_min > 0) {
+    Region a;
+    a.sigma_min = r.sigma_min;
+    out.push_back({"sigma", "sigma >= " + Num(r.sigma_min) + " 1/s", a,
+                   [=](const LoopPolynomials& l, double k) { return shape(l, k).sigma; }});
+  }
+  if (r.wd_min > 0) {
+    Region a;
+    a.wd_min = r.wd_min;
+    out.push_back({"wd", "wd >= " + Num(r.wd_min) + " rad/s", a,
+                   [=](const LoopPolynomials& l, double k) { return shape(l, k).wd; }});
+  }
+  if (r.decay_min > 0) {
+    Region a;
+    a.decay_min = r.decay_min;
+    out.push_back({"decay", "other poles decaying >= " + Num(r.decay_min) + " 1/s", a,
+                   [](const LoopPolynomials& l, double k) { return SlowestOther(l, k); }});
+  }
+  return out;
+}
+
+// Maximises q over the gains in `set` (sampling plus golden-section refinement).
+std::pair<double, double> Best(const GainSet& set, const std::function<double(double)>& q) {
+  double best = -std::numeric_limits<double>::infinity(), best_k = 0.0;
+  for (const GainRange& r : set) {
+    double lo = r.lo > 0.0 ? r.lo : r.hi * 1e-4;
+    double hi = std::isfinite(r.hi) ? r.hi : lo * 1e3;
+    const int n = 64;
+    int bi = -1;
+    std::vector<double> ks(n);
+    for (int i = 0; i < n; ++i) {
+      ks[static_cast<size_t>(i)] = lo * std::pow(hi / lo, (i + 0.5) / n);
+      double v = q(ks[static_cast<size_t>(i)]);
+      if (v > best) {
+        best = v;
+        best_k = ks[static_cast<size_t>(i)];
+        bi = i;
+      }
+    }
+    if (bi < 0) continue;
+    double a = std::log(bi > 0 ? ks[static_cast<size_t>(bi - 1)] : lo);
+    double b = std::log(bi + 1 < n ? ks[static_cast<size_t>(bi + 1)] : hi);
+    const double g = (std::sqrt(5.0) - 1.0) / 2.0;
+    while (b - a > 1e-6) {
+      double c = b - g * (b - a), d = a + g * (b - a);
+      if (q(std::exp(c)) > q(std::exp(d)))
+        b = d;
+      else
+        a = c;
+    }
+    double k = std::exp(0.5 * (a + b));
+    double v = q(k);
+    if (v > best) {
+      best = v;
+      best_k = k;
+    }
+  }
+  return {best, best_k};
+}
+
+}  // namespace
+
+Infeasibility DiagnoseInfeasible(const LoopPolynomials& loop, const Region& region) {
+  Infeasibility out;
+  GainSet stable = FindLocusBand(loop, Region{}).gains();
+  if (stable.empty()) {
+    auto [best, k] = Best({{0.0, std::numeric_limits<double>::infinity()}},
+                          [&](double g) { return -JudgeGain(loop, Region{}, g).dominant.real(); });
+    out = {
+        "no gain K > 0 gives a stable loop; the dominant pole comes closest to the left half "
+        "plane at Re s = " +
+            Num(-best) + " 1/s, at K = " + Num(k),
+        "stability", "", -best, k};
+    return out;
+  }
+  std::vector<Requirement> reqs = Requirements(region);
+  for (const Requirement& r : reqs) {
+    if (!FindLocusBand(loop, r.alone).empty()) continue;
+    auto [best, k] = Best(stable, [&](double g) { return r.quantity(loop, g); });
+    out = {"no gain gives " + r.text + " with a stable loop; the best " + r.name + " is " +
+               Num(best) + ", at K = " + Num(k),
+           r.name, "", best, k};
+    return out;
+  }
+  for (size_t i = 0; i < reqs.size(); ++i) {
+    for (size_t j = 0; j < reqs.size(); ++j) {
+      if (i == j) continue;
+      if (!FindLocusBand(loop, Merge(reqs[i].alone, reqs[j].alone)).empty()) continue;
+      GainSet with = FindLocusBand(loop, reqs[i].alone).gains();
+      auto [best, k] = Best(with, [&](double g) { return reqs[j].quantity(loop, g); });
+      out = {"no gain gives " + reqs[j].text + " with " + reqs[i].text + "; the best " +
+                 reqs[j].name + " with " + reqs[i].text + " is " + Num(best) + ", at K = " + Num(k),
+             reqs[j].name, reqs[i].name, best, k};
+      return out;
+    }
+  }
+  out.sentence = "no gain meets all of " + region.ToString() +
+                 " at once, although every pair of them can be met";
+  out.requirement = "all";
+  return out;
+}
+
+}  // namespace lw

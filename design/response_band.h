@@ -1,0 +1,81 @@
+// The response band: the gains for which the SIMULATED closed-loop step (exact dead time, no
+// Padé; lti/simulate.h) itself meets the specs, measured with the foundation's step metrics
+// (lti/step_metrics.h).
+//
+// Requirements on the simulated unit step of the reference (at t = 0, from rest):
+//   rise_max       10-90 % rise time <= rise_max
+//   overshoot_max  overshoot <= overshoot_max (percent of the change)
+//   zeta_min       overshoot <= 100 exp(-pi zeta / sqrt(1 - zeta^2)) (its second-order meaning)
+//   settle_max     settling time in the settle_band (1 % or 2 %) <= settle_max
+//   peak_max       peak time <= peak_max
+//   wn_min         rise time <= 1.8 / wn_min (the same approximation as specs.h, read backwards)
+//   always         the response reaches 90 % and ends settled within the band (2 % unless
+//                  settle_band says 1 %) — a stable, non-creeping loop.
+// decay_min has no response meaning and is not used here.
+//
+// Record length at gain K: 12 / sigma + 2 T, where sigma is the decay rate of the slowest
+// closed-loop pole of the Padé loop (order `pade_order`; only to choose the length), at least
+// 2 settle_max, 3 peak_max and 3 rise_max; `samples` uniform samples. A gain whose Padé loop
+// has a pole with Re >= 0 is judged unstable without simulating.
+//
+// Search: `grid` log-spaced gains from a tenth of the smallest to 1.05 times the largest gain at
+// which a pole of the Padé loop crosses a region boundary (boundary_crossings.h); neighbours with
+// different verdicts bracket an edge, refined by bisection in log K until hi/lo - 1 <= rel_tol.
+// When an end of the grid meets the specs the search extends by decades (up to 6) to find that
+// edge or reports it open (0 or inf). Two edges between neighbouring grid gains are missed.
+#ifndef LOOPWRIGHT_DESIGN_RESPONSE_BAND_H_
+#define LOOPWRIGHT_DESIGN_RESPONSE_BAND_H_
+
+#include <string>
+#include <vector>
+
+#include "design/gain_intervals.h"
+#include "design/specs.h"
+#include "lti/controller.h"
+#include "lti/step_metrics.h"
+#include "lti/transfer_function.h"
+
+namespace lw {
+
+struct ResponseBandOptions {
+  int samples = 1500;     // per simulated step, >= 100
+  int grid = 40;          // gains scanned, >= 8
+  double rel_tol = 1e-6;  // edge bisection tolerance, 0 < rel_tol < 0.1
+  int pade_order = 3;     // 1..8, only for record lengths and the scan range
+  void Validate() const;  // throws UsageError naming the field
+};
+
+struct ResponseCheck {
+  bool meets = false;
+  std::string failed;  // the first requirement broken: "unstable", "rise", "overshoot",
+                       // "settling", "peak time", "not settled"; empty when it meets
+  StepMetrics metrics;
+  double duration = 0.0;  // s, simulated record length
+};
+
+// Simulates and judges one gain.
+ResponseCheck CheckResponse(const TransferFunction& plant, const Controller& controller,
+                            double gain, const Specs& specs, const ResponseBandOptions& options);
+
+struct ResponseEdge {
+  double gain = 0.0;     // 0 or inf for open ends
+  std::string limiting;  // what fails just outside (empty for open ends)
+};
+
+struct ResponseRange {
+  ResponseEdge lo, hi;
+};
+
+struct ResponseBand {
+  std::vector<ResponseRange> ranges;
+  GainSet gains() const;
+  bool empty() const { return ranges.empty(); }
+  int simulations = 0;  // how many steps were simulated
+};
+
+ResponseBand FindResponseBand(const TransferFunction& plant, const Controller& controller,
+                              const Specs& specs, const ResponseBandOptions& options = {});
+
+}  // namespace lw
+
+#endif  // LOOPWRIGHT_DESIGN_RESPONSE_BAND_H_

@@ -1,0 +1,107 @@
+// Response band: at every edge the simulated metric just inside meets its spec and just outside
+// breaks it (plants of our own).
+#include <cmath>
+
+#include <doctest/doctest.h>
+
+#include "design/gain_band.h"
+#include "design/infeasibility.h"
+#include "design/response_band.h"
+
+namespace lw {
+namespace {
+
+double MetricFor(const std::string& name, const StepMetrics& m) {
+  if (name == "rise") return m.rise_time;
+  if (name == "overshoot") return m.overshoot_percent;
+  if (name == "settling") return m.settling_time;
+  return m.peak_time;
+}
+
+void CheckEdgesStraddle(const TransferFunction& plant, const Controller& c, const Specs& specs) {
+  ResponseBandOptions opt;
+  ResponseBand band = FindResponseBand(plant, c, specs, opt);
+  REQUIRE_FALSE(band.empty());
+  int finite_edges = 0;
+  for (const ResponseRange& r : band.ranges) {
+    for (int side = 0; side < 2; ++side) {
+      const ResponseEdge& e = side == 0 ? r.lo : r.hi;
+      if (e.gain == 0.0 || std::isinf(e.gain)) continue;
+      ++finite_edges;
+      double inward = side == 0 ? 1.0 + 4e-6 : 1.0 - 4e-6;
+      double outward = side == 0 ? 1.0 - 4e-6 : 1.0 + 4e-6;
+      ResponseCheck in = CheckResponse(plant, c, e.gain * inward, specs, opt);
+      ResponseCheck out = CheckResponse(plant, c, e.gain * outward, specs, opt);
+      CHECK(in.meets);
+      CHECK_FALSE(out.meets);
+      CHECK(out.failed == e.limiting);
+      double cap = e.limiting == "rise"        ? *specs.rise_max
+                   : e.limiting == "overshoot" ? *specs.overshoot_max
+                   : e.limiting == "settling"  ? *specs.settle_max
+                                               : *specs.peak_max;
+      if (e.limiting != "unstable" && e.limiting != "not settled") {
+        CHECK(MetricFor(e.limiting, in.metrics) <= cap);
+        CHECK(MetricFor(e.limiting, out.metrics) > cap);
+      }
+    }
+  }
+  CHECK(finite_edges >= 1);
+}
+
+TEST_CASE("response band edges straddle the overshoot and settling specs (dead time exact)") {
+  // 2 exp(-0.3 s) / ((2 s + 1)(0.5 s + 1)) under PI control with its zero at 0.6 rad/s.
+  TransferFunction plant(Polynomial({2.0}), Polynomial({2.0, 1.0}) * Polynomial({0.5, 1.0}), 0.3);
+  Specs specs;
+  specs.overshoot_max = 12.0;
+  specs.settle_max = 9.0;
+  CheckEdgesStraddle(plant, Controller::Parse("pi:0.6"), specs);
+}
+
+TEST_CASE("response band edges straddle a rise-time spec") {
+  // 3 / ((s + 1)(0.25 s + 1)(0.1 s + 1)) under P control.
+  TransferFunction plant(Polynomial({3.0}),
+                         Polynomial({1.0, 1.0}) * Polynomial({0.25, 1.0}) * Polynomial({0.1, 1.0}));
+  Specs specs;
+  specs.rise_max = 0.6;
+  specs.overshoot_max = 20.0;
+  CheckEdgesStraddle(plant, Controller(), specs);
+}
+
+TEST_CASE("infeasible pair: the sentence names both and the best value is the true maximum") {
+  // 4 / ((s + 0.5)(s + 2)(s + 6)): zeta >= 0.8 and wn >= 1.8 cannot hold together.
+  LoopPolynomials loop = LoopPolynomials::FromPolynomials(Polynomial::FromRoots({-0.5, -2.0, -6.0}),
+                                                          Polynomial({4.0}));
+  Region region;
+  region.zeta_min = 0.8;
+  region.wn_min = 1.8;
+  REQUIRE(FindLocusBand(loop, region).empty());
+  Infeasibility why = DiagnoseInfeasible(loop, region);
+  CHECK(why.requirement == "zeta");
+  CHECK(why.with == "wn");
+  CHECK(why.sentence.find("zeta >= 0.8") != std::string::npos);
+  CHECK(why.sentence.find("wn >= 1.8") != std::string::npos);
+  // Brute force: the largest dominant zeta over gains whose dominant wn >= 1.8.
+  double best = 0.0;
+  for (double k = 1e-3; k < 1e3; k *= 1.0005) {
+    PoleVerdict v = JudgeGain(loop, Region{}, k);
+    if (v.meets && v.shape.wn >= 1.8) best = std::max(best, v.shape.zeta);
+  }
+  CHECK(why.best < 0.8);
+  CHECK(why.best == doctest::Approx(best).epsilon(1e-3));
+  CHECK(ShapeOf(JudgeGain(loop, Region{}, why.best_gain).dominant).wn >= 1.8 - 1e-9);
+}
+
+TEST_CASE("infeasible alone: wn beyond anything a stable loop reaches") {
+  // 1/(s(s+1)(s+2)): the dominant pole never leaves |s| < sqrt(2) while the loop is stable.
+  LoopPolynomials loop =
+      LoopPolynomials::FromPolynomials(Polynomial({1.0, 3.0, 2.0, 0.0}), Polynomial({1.0}));
+  Region region;
+  region.wn_min = 3.0;
+  Infeasibility why = DiagnoseInfeasible(loop, region);
+  CHECK(why.requirement == "wn");
+  CHECK(why.with.empty());
+  CHECK(why.best == doctest::Approx(std::sqrt(2.0)).epsilon(1e-3));
+}
+
+}  // namespace
+}  // namespace lw
