@@ -8,7 +8,13 @@
 //   undershoot     100 * the largest excursion opposite the change before it / |change|;
 //   settling time  time from the step after which y stays within settle_band * |change| of final
 //                  (2 % band by default);
-//   steady-state error  target - final, when a target (the reference) is given.
+//   steady-state error  target - final, when a target (the reference) is given;
+//   peak actuator  the largest |u| at or after the step.
+// Without noise (the default) initial is the last sample before t_step, final the last sample:
+// the record must be long enough for the response to settle. A record whose final value equals
+// its initial value has no step: rise and settling time are NaN and the rest is 0.
+// When the response does not overshoot, peak and peak time are those of its largest value (for a
+// monotone response, near the end of the record).
 // For measured data (`noisy`), see step_metrics.cc's header comment for the method: the final
 // value is a robust average of the settled tail, and crossings are taken on a smoothed trace with
 // hysteresis of a few noise standard deviations so noise cannot create false crossings.
@@ -21,11 +27,20 @@
 namespace lw {
 
 struct StepMetricsOptions {
-  double rise_low = 0.1;      // fraction of the change, 0 <= rise_low < rise_high <= 1
+  double rise_low = 0.1;  // fraction of the change, 0 <= rise_low < rise_high <= 1
   double rise_high = 0.9;
   double settle_band = 0.02;  // fraction of |change|, > 0
   // Treat the data as measured: estimate noise, use robust final value and hysteresis.
   bool noisy = false;
+  // Fraction of the samples after the step that form the tail: the final value is their robust
+  // average in noisy mode, and `settled` requires the response to stay in the band over it.
+  // In (0, 0.5].
+  double tail_fraction = 0.2;
+  // Noisy mode: hysteresis in standard deviations of the smoothed trace, >= 0.
+  double hysteresis_sd = 4.0;
+  // Noisy mode: width in seconds of the local quadratic smoothing window; 0 = automatic (a tenth
+  // of a rough rise time). >= 0.
+  double smooth_time = 0.0;
   // Validates the fields; throws UsageError naming the field, its value and the rule it broke.
   void Validate() const;
 };
@@ -33,22 +48,25 @@ struct StepMetricsOptions {
 struct StepMetrics {
   double initial = 0.0;
   double final_value = 0.0;
-  double rise_time = 0.0;          // s; NaN when the response never reaches rise_high
-  double peak_time = 0.0;          // s
-  double peak = 0.0;               // extreme output value in the direction of the change
+  double rise_time = 0.0;  // s; NaN when the response never reaches rise_high
+  double peak_time = 0.0;  // s
+  double peak = 0.0;       // extreme output value in the direction of the change
   double overshoot_percent = 0.0;
   double undershoot_percent = 0.0;
-  double settling_time = 0.0;      // s; NaN when never settled within the record
-  double steady_state_error = 0.0; // target - final (0 without a target)
-  double peak_actuator = 0.0;      // largest |u| after the step (0 without u)
-  double noise_sd = 0.0;           // estimated output noise standard deviation (noisy mode)
-  bool settled = false;            // the record ends inside the settling band
+  double settling_time = 0.0;       // s; NaN when never settled within the record
+  double steady_state_error = 0.0;  // target - final (0 without a target)
+  double peak_actuator = 0.0;       // largest |u| at or after the step (0 without u)
+  double noise_sd = 0.0;            // estimated output noise standard deviation (noisy mode)
+  bool settled = false;             // the response stays in the band over the whole tail
+                                    // (tail_fraction) of the record
 };
 
-// Metrics of y(t) for a step at t_step. initial is taken from samples before t_step (their
-// robust average in noisy mode; y[0] when there are none). target, when given, is the level the
-// response should reach (for steady-state error). u, when given, supplies peak_actuator.
-// Throws UsageError on size mismatches or fewer than 3 samples after t_step.
+// Metrics of y(t) for a step at t_step. initial is taken from samples before t_step (the last one;
+// their robust average in noisy mode; y[0], or the smoothed start in noisy mode, when there are
+// none). Times t must be strictly increasing and finite, like y and u. target, when given, is the
+// level the response should reach (for steady-state error). u, when given, supplies peak_actuator.
+// Throws UsageError on size mismatches, non-finite or non-increasing samples, invalid options or
+// fewer than 3 samples at or after t_step.
 StepMetrics MeasureStep(std::span<const double> t, std::span<const double> y, double t_step,
                         const StepMetricsOptions& options = {},
                         std::optional<double> target = std::nullopt,
