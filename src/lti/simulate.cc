@@ -51,6 +51,14 @@ void CheckGrid(std::span<const double> t, std::span<const double> u, const char*
                      " values");
   }
   if (t.empty()) throw UsageError("simulation needs at least one time");
+  // One pass that counts failures without branches (vectorisable); the message needs a second.
+  // Monotone times with finite ends are all finite.
+  const size_t n = t.size();
+  long bad = !std::isfinite(t[0]) + !std::isfinite(t[n - 1]);
+  for (size_t i = 1; i < n; ++i) bad += !(t[i] > t[i - 1]);
+  for (size_t i = 0; i < n; ++i) bad += !(std::abs(u[i]) <= std::numeric_limits<double>::max());
+  const bool ok = bad == 0;
+  if (ok) return;
   for (size_t i = 0; i < t.size(); ++i) {
     if (!std::isfinite(t[i]) || !std::isfinite(u[i])) {
       throw UsageError("simulation sample " + std::to_string(i) + " has a non-finite time or " +
@@ -67,23 +75,32 @@ void CheckGrid(std::span<const double> t, std::span<const double> u, const char*
 double UniformPeriod(std::span<const double> t) {
   const size_t n = t.size();
   if (n < 2) return 0.0;
-  const double h = (t[n - 1] - t[0]) / static_cast<double>(n - 1);
-  for (size_t k = 1; k < n; ++k) {
-    if (std::abs(t[k] - (t[0] + static_cast<double>(k) * h)) > 1e-9 * h) return 0.0;
+  const double t0 = t[0], h = (t[n - 1] - t0) / static_cast<double>(n - 1), tol = 1e-9 * h;
+  // Four independent lanes so the loop is not bound by one chain of comparisons.
+  long off = 0;
+  size_t k = 1;
+  for (; k + 4 <= n; k += 4) {
+    const double kd = static_cast<double>(k);
+    off += (std::abs(t[k] - (t0 + kd * h)) > tol) +
+           (std::abs(t[k + 1] - (t0 + (kd + 1) * h)) > tol) +
+           (std::abs(t[k + 2] - (t0 + (kd + 2) * h)) > tol) +
+           (std::abs(t[k + 3] - (t0 + (kd + 3) * h)) > tol);
   }
-  return h;
+  for (; k < n; ++k) off += std::abs(t[k] - (t0 + static_cast<double>(k) * h)) > tol;
+  const bool uniform = off == 0;
+  return uniform ? h : 0.0;
 }
 
-// Hold blocks cached by interval length rounded to 2^-41 relative (about 5e-13).
+// Hold blocks cached by interval length, rounded to `resolution` times the longest length that
+// will be asked for (`scale`). Lengths are differences of absolute times, which carry rounding
+// of order 1e-16 |t|; rounding against the scale rather than the length itself lets a long
+// record at a fixed rate reuse a handful of entries.
 class HoldCache {
  public:
-  HoldCache(MatrixXd a, MatrixXd b, int degree)
-      : a_(std::move(a)), b_(std::move(b)), degree_(degree) {}
+  HoldCache(MatrixXd a, MatrixXd b, int degree, double scale, double resolution)
+      : a_(std::move(a)), b_(std::move(b)), degree_(degree), unit_(scale * resolution) {}
   const HoldBlocks& Get(double length) {
-    int e = 0;
-    const double mantissa = std::frexp(length, &e);
-    const auto q = static_cast<uint64_t>(std::llround(mantissa * 0x1p41));
-    const uint64_t key = (static_cast<uint64_t>(e + 4096) << 43) | q;
+    const auto key = static_cast<int64_t>(std::llround(length / unit_));
     auto it = map_.find(key);
     if (it == map_.end()) it = map_.emplace(key, ExactHold(a_, b_, length, degree_)).first;
     return it->second;
@@ -92,8 +109,15 @@ class HoldCache {
  private:
   MatrixXd a_, b_;
   int degree_;
-  std::unordered_map<uint64_t, HoldBlocks> map_;
+  double unit_;
+  std::unordered_map<int64_t, HoldBlocks> map_;
 };
+
+double LongestInterval(std::span<const double> t) {
+  double longest = 0.0;
+  for (size_t i = 1; i < t.size(); ++i) longest = std::max(longest, t[i] - t[i - 1]);
+  return longest > 0.0 ? longest : 1.0;
+}
 
 // y[k] = c x[k] + d u(t_k - T) on a uniform grid, x[k+1] by the sampled recursion. u(j) for
 // j < 0 is `before`. N is the state order at compile time (Eigen::Dynamic for any).
@@ -117,10 +141,10 @@ void RunSampled(const SampledStateSpace& s, std::span<const double> u, double be
     y[k] = c.dot(x) + d * at(k - lag);
     x = phi * x + gl * at(k - m) + ge * at(k - m - 1);
   }
-  const double* um = u.data() - m;  // um[k] = u[k - m], valid for k > m
+  const double* um = u.data();  // here k > m, so every index below is >= 0
   for (; k < n; ++k) {
-    y[k] = c.dot(x) + d * um[k - lag + m];
-    x = phi * x + gl * um[k] + ge * um[k - 1];
+    y[k] = c.dot(x) + d * um[k - lag];
+    x = phi * x + (gl * um[k - m] + ge * um[k - m - 1]);
   }
 }
 
@@ -141,7 +165,7 @@ void RunSampledAnyOrder(const SampledStateSpace& s, std::span<const double> u, d
 void WalkHeld(const MatrixXd& a, const VectorXd& b, const MatrixXd& c_out, const VectorXd& d_out,
               double delay, std::span<const double> t, std::span<const double> u, double before,
               VectorXd x, std::vector<std::vector<double>*> out) {
-  HoldCache cache(a, b, 0);
+  HoldCache cache(a, b, 0, LongestInterval(t), 1e-12);
   const long n = static_cast<long>(t.size());
   long j = -1;  // the input sample the delayed input currently holds (-1: before t[0])
   const auto value = [&](long i) { return i < 0 ? before : u[i]; };
@@ -202,9 +226,13 @@ LoopModel BuildLoop(const StateSpace& p, const StateSpace& c) {
 
 // u(t) on [start, end): sum_k coef[k] (t - start)^k.
 constexpr int kPieceDegree = 3;
-struct Piece {
+// u may be non-smooth where a piece starts: generation 0 at a sample time (r switches),
+// g + 1 where the delayed image of a generation-g start reaches the loop again; kSmooth inside.
+constexpr int kSmooth = 1 << 20;
+struct HistoryPiece {
   double start, end;
   std::array<double, kPieceDegree + 1> coef;
+  int generation;
 };
 
 // Coefficients of q(s) = p(delta + s).
@@ -235,9 +263,11 @@ double FastestRate(const TransferFunction& plant, const TransferFunction& ctrl) 
 
 class DelayedLoop {
  public:
-  DelayedLoop(const LoopModel& m, double delay, double before, double t0)
-      : m_(m), delay_(delay), cache_(m.a, m.b, kPieceDegree) {
-    pieces_.push_back({t0 - delay, t0, {before, 0.0, 0.0, 0.0}});
+  // max_step: the longest internal step; segment lengths are cached to 1e-9 of it (the
+  // interpolation of u, O(h^4), dominates that).
+  DelayedLoop(const LoopModel& m, double delay, double before, double t0, double max_step)
+      : m_(m), delay_(delay), cache_(m.a, m.b, kPieceDegree, max_step, 1e-9) {
+    pieces_.push_back({t0 - delay, t0, {before, 0.0, 0.0, 0.0}, kSmooth});
     // Inverse Vandermonde matrix of the nodes 0, 1/3, 2/3, 1.
     Eigen::Matrix4d v;
     for (int i = 0; i < 4; ++i) {
@@ -249,7 +279,7 @@ class DelayedLoop {
   // w(s+) for s the start of the next step.
   double WRight(double s, double tol) {
     while (cursor_ + 1 < pieces_.size() && s - delay_ >= pieces_[cursor_].end - tol) ++cursor_;
-    const Piece& p = pieces_[cursor_];
+    const HistoryPiece& p = pieces_[cursor_];
     return Eval(p.coef, s - delay_ - p.start);
   }
 
@@ -258,8 +288,36 @@ class DelayedLoop {
   }
   double Y(const VectorXd& z, double w) const { return m_.cy.dot(z) + m_.dy * w; }
 
-  // One internal step [a, b] from state z (at a, with u(a+) = u0); appends the u piece.
-  void Step(VectorXd& z, double a, double b, double r, double u0) {
+  // One internal step [a, b] from state z (at a, with u(a+) = u0). The step is split where
+  // the delayed history has a non-smooth point of generation below max_generation_, so that
+  // no stored cubic straddles a kink (or, through a direct plant gain, a jump) of u.
+  void Step(VectorXd& z, double a, double b, double r, double u0, int generation) {
+    const double tol = 1e-10 * (b - a);
+    splits_.clear();
+    for (size_t i = cursor_; i < pieces_.size() && pieces_[i].start + delay_ < b - tol; ++i) {
+      const double at = pieces_[i].start + delay_;
+      if (at > a + tol && pieces_[i].generation + 1 < max_generation_) {
+        splits_.push_back({at, pieces_[i].generation + 1});
+      }
+    }
+    double start = a;
+    for (size_t i = 0; i <= splits_.size(); ++i) {
+      const double end = i < splits_.size() ? splits_[i].first : b;
+      if (i > 0) {
+        generation = splits_[i - 1].second;
+        u0 = U(z, r, WRight(start, tol));
+      }
+      StoreStep(z, start, end, r, u0, generation);
+      start = end;
+    }
+  }
+
+  // Splits are kept below this generation: 3 for a strictly proper plant (each round trip
+  // smooths u by at least one derivative), 8 when the plant has a direct gain.
+  void set_max_generation(int g) { max_generation_ = g; }
+
+  // Advances z over [a, b] and stores u there as the cubic through four equally spaced nodes.
+  void StoreStep(VectorXd& z, double a, double b, double r, double u0, int generation) {
     const double len = b - a, tol = 1e-10 * len;
     std::array<double, 4> nodes{u0, 0.0, 0.0, 0.0};
     double now = a;
@@ -270,23 +328,25 @@ class DelayedLoop {
         while (cursor_ + 1 < pieces_.size() && now - delay_ >= pieces_[cursor_].end - tol) {
           ++cursor_;
         }
-        const Piece& p = pieces_[cursor_];
+        const HistoryPiece& p = pieces_[cursor_];
         double seg_end = std::min(target, p.end + delay_);
         // The newest piece may be extrapolated by rounding (a step a hair longer than T).
         if (seg_end > target - tol || cursor_ + 1 == pieces_.size()) seg_end = target;
         const auto w = Shift(p.coef, now - delay_ - p.start);
         const double l = seg_end - now;
         const HoldBlocks& hb = cache_.Get(l);
-        VectorXd next = hb.phi * z + hb.gamma[0].col(0) * r;
-        for (int k = 0; k <= kPieceDegree; ++k) next += hb.gamma[k].col(1) * w[k];
-        z = std::move(next);
+        next_.resize(z.size());  // a member buffer: no allocation per segment
+        next_.noalias() = hb.phi * z;
+        next_ += hb.gamma[0].col(0) * r;
+        for (int k = 0; k <= kPieceDegree; ++k) next_ += hb.gamma[k].col(1) * w[k];
+        z.swap(next_);
         w_left = Eval(w, l);
         now = seg_end;
       }
       nodes[i] = U(z, r, w_left);
     }
     Eigen::Vector4d c = vinv_ * Eigen::Map<const Eigen::Vector4d>(nodes.data());
-    Piece piece{a, b, {}};
+    HistoryPiece piece{a, b, {}, generation};
     double scale = 1.0;
     for (int k = 0; k < 4; ++k) {
       piece.coef[k] = c(k) / scale;
@@ -303,9 +363,12 @@ class DelayedLoop {
   const LoopModel& m_;
   double delay_;
   HoldCache cache_;
-  std::vector<Piece> pieces_;
+  std::vector<HistoryPiece> pieces_;
   size_t cursor_ = 0;
   Eigen::Matrix4d vinv_;
+  int max_generation_ = 3;
+  std::vector<std::pair<double, int>> splits_;
+  VectorXd next_;
 };
 
 }  // namespace
@@ -378,7 +441,15 @@ ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Contr
     c_out.row(0) = m.cy + m.dy * cu;
     c_out.row(1) = cu;
     const Eigen::Vector2d d_out(m.dy * du, du);
-    WalkHeld(a, b, c_out, d_out, 0.0, t, r, r[0], z0, {&out.y, &out.u});
+    const double h = UniformPeriod(t);
+    if (h > 0.0) {
+      for (int row = 0; row < 2; ++row) {
+        const StateSpace part{a, b, c_out.row(row), d_out(row)};
+        RunSampledAnyOrder(SampleZoh(part, h, 0.0), r, r[0], z0, row == 0 ? out.y : out.u);
+      }
+    } else {
+      WalkHeld(a, b, c_out, d_out, 0.0, t, r, r[0], z0, {&out.y, &out.u});
+    }
     return out;
   }
 
@@ -394,7 +465,8 @@ ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Contr
                      "shorten the record or simulate the delay-free loop");
   }
 
-  DelayedLoop loop(m, delay, u_before, t[0]);
+  DelayedLoop loop(m, delay, u_before, t[0], max_step);
+  loop.set_max_generation(m.dy != 0.0 ? 8 : 3);
   VectorXd z = z0;
   const size_t n = t.size();
   for (size_t k = 0; k < n; ++k) {
@@ -410,7 +482,7 @@ ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Contr
       const double a = t[k] + h * static_cast<double>(j) / static_cast<double>(q);
       const double b = j + 1 == q ? t[k + 1] : t[k] + h * static_cast<double>(j + 1) / q;
       if (j > 0) u0 = loop.U(z, r[k], loop.WRight(a, 1e-10 * (b - a)));
-      loop.Step(z, a, b, r[k], u0);
+      loop.Step(z, a, b, r[k], u0, j == 0 ? 0 : kSmooth);
     }
   }
   return out;
