@@ -7,7 +7,8 @@ Draws 24 random stable models (seeded numpy RNG; orders 1..4, real and complex p
 zeros, a few biproper, dead times that are mostly not whole samples) and simulates each for
 three held inputs (a few steps, a PRBS, a random column) on a uniform and on a jittered grid.
 
-The reference is built from scipy alone: scipy.signal.tf2ss for the realisation and
+The reference is built independently of loopwright: an observer canonical realisation written
+here with numpy (loopwright uses a balanced controllable form) and
 scipy.signal.cont2discrete(method='zoh') over every sub-interval between the sample times and
 the delayed switching times t[i] + T, where the delayed input u(t - T) is constant; so the dead
 time is exact. For a few models the same response is also integrated with
@@ -86,6 +87,27 @@ def inputs(rng, t, h):
     return {"steps": steps, "prbs": prbs, "column": column}
 
 
+def realise(num, den):
+    """Observer canonical form of num/den: (A, B, C, D) with A = [-a | I; 0], C = e1."""
+    den = np.asarray(den, float)
+    num = np.asarray(num, float)
+    num, den = num / den[0], den / den[0]
+    n = den.size - 1
+    num = np.concatenate([np.zeros(n + 1 - num.size), num])
+    d = num[0]
+    rest = num[1:] - d * den[1:]
+    a = np.zeros((n, n))
+    if n:
+        a[:, 0] = -den[1:]
+    if n > 1:
+        a[:n - 1, 1:] = np.eye(n - 1)
+    b = rest.reshape(n, 1)
+    c = np.zeros((1, n))
+    if n:
+        c[0, 0] = 1.0
+    return a, b, c, np.array([[d]])
+
+
 def sub_intervals(t, delay):
     """Sorted times of t and t + delay inside [t0, tN], merging points closer than 1e-9 h."""
     h = np.min(np.diff(t)) if t.size > 1 else 1.0
@@ -103,7 +125,7 @@ def delayed_index(t, delay, s, tol):
 
 
 def reference_zoh(num, den, delay, t, u, cache):
-    a, b, c, d = signal.tf2ss(num, den)
+    a, b, c, d = realise(num, den)
     n = a.shape[0]
     x = np.linalg.solve(a, -b[:, 0] * u[0]) if n else np.zeros(0)
     events, tol = sub_intervals(t, delay)
@@ -128,7 +150,7 @@ def reference_zoh(num, den, delay, t, u, cache):
 
 
 def reference_ivp(num, den, delay, t, u):
-    a, b, c, d = signal.tf2ss(num, den)
+    a, b, c, d = realise(num, den)
     x = np.linalg.solve(a, -b[:, 0] * u[0])
     events, tol = sub_intervals(t, delay)
     value = lambda j: u[0] if j < 0 else u[j]
@@ -157,12 +179,8 @@ def closed_loop_rational(num, den, knum, kden):
 
 def reference_dde(num, den, knum, kden, delay, t, r):
     """Method of steps for the loop with the dead time in the plant (plant strictly proper)."""
-    ap, bp, cp, _ = signal.tf2ss(num, den)
-    if len(kden) == 1:  # a static gain: no controller state (tf2ss would give one dummy state)
-        ac, bc, cc = np.zeros((0, 0)), np.zeros((0, 1)), np.zeros((1, 0))
-        dc = np.array([[knum[0] / kden[0]]])
-    else:
-        ac, bc, cc, dc = signal.tf2ss(knum, kden)
+    ap, bp, cp, _ = realise(num, den)
+    ac, bc, cc, dc = realise(knum, kden)
     np_, nc = ap.shape[0], ac.shape[0]
     a = np.zeros((np_ + nc, np_ + nc))
     a[:np_, :np_] = ap
