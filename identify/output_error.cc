@@ -74,7 +74,7 @@ void ForEachRow(const OutputErrorProblem& pb, std::span<const double> x, bool wi
   if (!with_jacobian) {
     double dyn[D];
     for (int i = 0; i < D; ++i) dyn[i] = x[FullIndexOfDynamic(s, i)];
-    double w0, w1;
+    double w0 = 0.0, w1 = 0.0;
     OutputWeights(s, tau2, tauz, w0, w1);
     RunKernelD<D>(s, dyn, grid, pb.v, pb.zero_initial, [&](size_t k, double x1, double x2) {
       if (k < pb.first_residual) return;
@@ -142,15 +142,6 @@ class OutputErrorCost : public ceres::CostFunction {
   const OutputErrorProblem& pb_;
 };
 
-std::string JoinNames(const std::vector<std::string>& names) {
-  std::string out;
-  for (size_t i = 0; i < names.size(); ++i) {
-    if (i) out += i + 1 == names.size() ? " and " : ", ";
-    out += names[i];
-  }
-  return out;
-}
-
 }  // namespace
 
 std::vector<std::string> FullParameterNames(Structure s) {
@@ -212,51 +203,83 @@ SolveReport SolveOutputError(const OutputErrorProblem& problem, std::vector<doub
   report.residuals = ResidualCount(problem);
   report.free_parameters = static_cast<int>(std::count(fixed.begin(), fixed.end(), false));
 
-  ceres::Problem::Options problem_options;
-  problem_options.cost_function_ownership = ceres::TAKE_OWNERSHIP;
-  ceres::Problem cp(problem_options);
-  double* xp = report.x.data();
-  cp.AddResidualBlock(new OutputErrorCost(problem), nullptr, xp);
-  std::vector<int> held;
-  for (int i = 0; i < p; ++i) {
-    if (fixed[i]) {
-      held.push_back(i);
-      continue;
-    }
-    if (std::isfinite(lower[i])) cp.SetParameterLowerBound(xp, i, lower[i]);
-    if (std::isfinite(upper[i])) cp.SetParameterUpperBound(xp, i, upper[i]);
-  }
-  if (static_cast<int>(held.size()) == p) {
-    throw UsageError("output-error solve: every parameter is fixed");
-  }
-  if (!held.empty()) cp.SetManifold(xp, new ceres::SubsetManifold(p, held));
-
-  ceres::Solver::Options so;
-  so.minimizer_type = ceres::TRUST_REGION;
-  so.trust_region_strategy_type = ceres::LEVENBERG_MARQUARDT;
-  // Normal equations are cheap for the long, thin Jacobians of recordings; QR keeps the digits
-  // on short ill-conditioned problems.
-  so.linear_solver_type = report.residuals > 5000 ? ceres::DENSE_NORMAL_CHOLESKY : ceres::DENSE_QR;
-  so.max_num_iterations = options.max_iterations;
-  so.function_tolerance = options.function_tolerance;
-  so.parameter_tolerance = options.parameter_tolerance;
-  so.gradient_tolerance = options.gradient_tolerance;
-  so.num_threads = 1;
-  so.logging_type = ceres::SILENT;
-  so.minimizer_progress_to_stdout = false;
-  ceres::Solver::Summary summary;
-  ceres::Solve(so, &cp, &summary);
-
-  report.rss = 2.0 * summary.final_cost;
-  report.iterations = static_cast<int>(summary.iterations.size());
-  report.converged = summary.termination_type == ceres::CONVERGENCE;
-  report.termination = ceres::TerminationTypeToString(summary.termination_type) +
-                       std::string(": ") + summary.message;
-  if (options.compute_covariance && summary.IsSolutionUsable()) {
+  CeresRun run = RunCeres(new OutputErrorCost(problem), report.x, fixed, lower, upper, options,
+                          report.residuals);
+  report.rss = run.rss;
+  report.iterations = run.iterations;
+  report.converged = run.converged;
+  report.termination = run.termination;
+  if (options.compute_covariance && run.usable) {
     ComputeOutputErrorCovariance(problem, fixed, report);
   }
   report.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - begin).count();
   return report;
+}
+
+void SolveLinearParameters(const OutputErrorProblem& problem, const std::vector<bool>& fixed,
+                           std::vector<double>& x) {
+  const Structure s = problem.structure;
+  const int lin[3] = {0, OffsetIndex(s), DriftIndex(s)};
+  std::vector<int> free_lin;
+  for (int i : lin) {
+    if (!fixed[i]) free_lin.push_back(i);
+  }
+  if (free_lin.empty() || problem.t.size() <= problem.first_residual) return;
+  std::vector<double> unit = x;
+  unit[0] = 1.0;
+  unit[OffsetIndex(s)] = 0.0;
+  unit[DriftIndex(s)] = 0.0;
+  std::vector<double> shape = PredictOutput(problem, unit);
+  const size_t n = problem.t.size() - problem.first_residual;
+  const int m = static_cast<int>(free_lin.size());
+  Eigen::MatrixXd a(n, m);
+  Eigen::VectorXd b(n);
+  for (size_t r = 0; r < n; ++r) {
+    const size_t k = r + problem.first_residual;
+    const double sw = problem.weight.empty() ? 1.0 : std::sqrt(problem.weight[k]);
+    double known = 0.0;
+    for (int c = 0, col = 0; c < 3; ++c) {
+      const int i = lin[c];
+      const double basis = c == 0 ? shape[k] : c == 1 ? 1.0 : problem.t[k] - problem.t[0];
+      if (fixed[i]) {
+        known += x[i] * basis;
+      } else {
+        a(static_cast<Eigen::Index>(r), col++) = sw * basis;
+      }
+    }
+    b[static_cast<Eigen::Index>(r)] = sw * (problem.y[k] - known);
+  }
+  Eigen::VectorXd sol = a.colPivHouseholderQr().solve(b);
+  for (int c = 0; c < m; ++c) {
+    if (std::isfinite(sol[c])) x[free_lin[c]] = sol[c];
+  }
+}
+
+SolveReport SolveMultiStart(const OutputErrorProblem& problem,
+                            const std::vector<std::vector<double>>& starts,
+                            const std::vector<bool>& fixed, const std::vector<double>& lower,
+                            const std::vector<double>& upper, const SolveOptions& options) {
+  if (starts.empty()) throw UsageError("multi-start solve: no starting values");
+  auto begin = std::chrono::steady_clock::now();
+  SolveOptions quiet = options;
+  quiet.compute_covariance = false;
+  SolveReport best;
+  bool have = false;
+  for (const auto& given : starts) {
+    std::vector<double> start = given;
+    SolveLinearParameters(problem, fixed, start);
+    for (size_t i = 0; i < start.size(); ++i) start[i] = std::clamp(start[i], lower[i], upper[i]);
+    SolveReport r = SolveOutputError(problem, start, fixed, lower, upper, quiet);
+    if (!std::isfinite(r.rss)) continue;
+    if (!have || r.rss < best.rss) {
+      best = std::move(r);
+      have = true;
+    }
+  }
+  if (!have) best = SolveOutputError(problem, starts.front(), fixed, lower, upper, quiet);
+  if (options.compute_covariance) ComputeOutputErrorCovariance(problem, fixed, best);
+  best.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - begin).count();
+  return best;
 }
 
 void ComputeOutputErrorCovariance(const OutputErrorProblem& problem, const std::vector<bool>& fixed,
@@ -274,78 +297,16 @@ void ComputeOutputErrorCovariance(const OutputErrorProblem& problem, const std::
     return;
   }
   const double s2 = report.rss / dof;
-  std::vector<std::string> names = FullParameterNames(s);
-
-  // Which direction, if any, the data cannot determine: SVD of the column-scaled J'J.
-  std::vector<int> free_idx;
-  for (int i = 0; i < p; ++i) {
-    if (!fixed[i]) free_idx.push_back(i);
+  report.rank_deficiency =
+      DescribeRankDeficiency(NormalMatrix(problem, report.x), fixed, FullParameterNames(s));
+  if (!report.rank_deficiency.empty()) return;
+  Eigen::MatrixXd unscaled;
+  report.covariance_ok = CeresCovariance(new OutputErrorCost(problem), report.x, fixed, unscaled);
+  if (report.covariance_ok) {
+    report.covariance = unscaled * s2;
+  } else {
+    report.rank_deficiency = "the covariance is rank-deficient (Ceres dense SVD)";
   }
-  const int m = static_cast<int>(free_idx.size());
-  Eigen::MatrixXd full = NormalMatrix(problem, report.x);
-  Eigen::MatrixXd n(m, m);
-  for (int a = 0; a < m; ++a) {
-    for (int b = 0; b < m; ++b) n(a, b) = full(free_idx[a], free_idx[b]);
-  }
-  Eigen::VectorXd scale = n.diagonal().cwiseSqrt();
-  std::vector<std::string> dead;
-  for (int a = 0; a < m; ++a) {
-    if (!(scale[a] > 0.0)) {
-      dead.push_back(names[free_idx[a]]);
-      scale[a] = 1.0;
-    }
-  }
-  Eigen::MatrixXd ns = scale.asDiagonal().inverse() * n * scale.asDiagonal().inverse();
-  Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(ns);
-  const double ratio = eig.eigenvalues()[0] / std::max(eig.eigenvalues()[m - 1], 1e-300);
-  std::string undetermined;
-  if (!dead.empty()) {
-    undetermined = "the data do not depend on " + JoinNames(dead) + " at all";
-  } else if (ratio < 1e-12) {
-    Eigen::VectorXd null_dir = eig.eigenvectors().col(0);
-    std::vector<std::string> culprits;
-    const double top = null_dir.cwiseAbs().maxCoeff();
-    for (int a = 0; a < m; ++a) {
-      if (std::abs(null_dir[a]) >= 0.5 * top) culprits.push_back(names[free_idx[a]]);
-    }
-    undetermined = "the data cannot determine " + JoinNames(culprits) +
-                   (culprits.size() > 1 ? " separately" : "") +
-                   " (scaled normal matrix reciprocal condition " +
-                   [&] {
-                     std::ostringstream o;
-                     o.precision(2);
-                     o << ratio;
-                     return o.str();
-                   }() +
-                   ")";
-  }
-
-  ceres::Problem::Options po;
-  po.cost_function_ownership = ceres::TAKE_OWNERSHIP;
-  ceres::Problem cp(po);
-  std::vector<double> x = report.x;
-  cp.AddResidualBlock(new OutputErrorCost(problem), nullptr, x.data());
-  std::vector<int> held;
-  for (int i = 0; i < p; ++i) {
-    if (fixed[i]) held.push_back(i);
-  }
-  if (!held.empty()) cp.SetManifold(x.data(), new ceres::SubsetManifold(p, held));
-  ceres::Covariance::Options co;
-  co.algorithm_type = ceres::DENSE_SVD;
-  co.num_threads = 1;
-  ceres::Covariance covariance(co);
-  std::vector<std::pair<const double*, const double*>> blocks = {{x.data(), x.data()}};
-  bool ok = undetermined.empty() && covariance.Compute(blocks, &cp);
-  if (ok) {
-    Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor> c(p, p);
-    ok = covariance.GetCovarianceBlock(x.data(), x.data(), c.data());
-    if (ok) report.covariance = c * s2;
-  }
-  if (!ok && undetermined.empty()) {
-    undetermined = "the covariance is rank-deficient (Ceres dense SVD)";
-  }
-  report.covariance_ok = ok;
-  report.rank_deficiency = undetermined;
 }
 
 }  // namespace lw

@@ -21,6 +21,7 @@
 
 #include <Eigen/Dense>
 
+#include "identify/ceres_solve.h"
 #include "identify/model_structure.h"
 #include "identify/response_kernel.h"
 
@@ -51,14 +52,6 @@ std::vector<double> PredictOutput(const OutputErrorProblem& problem, std::span<c
 // J'J accumulated row by row (no N x p storage).
 Eigen::MatrixXd NormalMatrix(const OutputErrorProblem& problem, std::span<const double> x);
 
-struct SolveOptions {
-  int max_iterations = 100;
-  double function_tolerance = 1e-12;
-  double parameter_tolerance = 1e-12;
-  double gradient_tolerance = 1e-14;
-  bool compute_covariance = true;
-};
-
 struct SolveReport {
   std::vector<double> x;
   double rss = 0.0;      // sum of weighted squared residuals at x
@@ -82,6 +75,21 @@ struct SolveReport {
 SolveReport SolveOutputError(const OutputErrorProblem& problem, std::vector<double> start,
                              const std::vector<bool>& fixed, const std::vector<double>& lower,
                              const std::vector<double>& upper, const SolveOptions& options = {});
+
+// Solves from every start (without covariance), keeps the lowest residual sum of squares and
+// computes the covariance there: the multi-start that stops a local minimum from winning.
+// Before each solve the free linear parameters (gain, output_offset, output_drift) of the start
+// are replaced by their exact linear least-squares values for the start's dynamics, so a start
+// is judged by its time constants and dead time, not by a poor guess of the gain.
+// Throws UsageError when starts is empty.
+SolveReport SolveMultiStart(const OutputErrorProblem& problem,
+                            const std::vector<std::vector<double>>& starts,
+                            const std::vector<bool>& fixed, const std::vector<double>& lower,
+                            const std::vector<double>& upper, const SolveOptions& options = {});
+
+// The linear least-squares values of the free linear parameters for x's dynamics (x updated).
+void SolveLinearParameters(const OutputErrorProblem& problem, const std::vector<bool>& fixed,
+                           std::vector<double>& x);
 
 // Covariance and rank diagnosis at x (fills the covariance fields of report).
 void ComputeOutputErrorCovariance(const OutputErrorProblem& problem, const std::vector<bool>& fixed,

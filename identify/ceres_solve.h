@@ -1,0 +1,53 @@
+// What every least-squares fit in identify/ shares: one Ceres solve of a single residual block
+// with bounds and held parameters, the covariance (J'J)^-1 from ceres::Covariance, and a
+// sentence naming the parameter the data cannot determine when J'J is (nearly) singular.
+#ifndef LOOPWRIGHT_IDENTIFY_CERES_SOLVE_H_
+#define LOOPWRIGHT_IDENTIFY_CERES_SOLVE_H_
+
+#include <string>
+#include <vector>
+
+#include <Eigen/Dense>
+
+namespace ceres {
+class CostFunction;
+}
+
+namespace lw {
+
+struct SolveOptions {
+  int max_iterations = 100;
+  double function_tolerance = 1e-12;
+  double parameter_tolerance = 1e-12;
+  double gradient_tolerance = 1e-14;
+  bool compute_covariance = true;
+};
+
+struct CeresRun {
+  double rss = 0.0;  // 2 x Ceres' final cost
+  int iterations = 0;
+  bool converged = false;   // Ceres reported CONVERGENCE
+  bool usable = false;      // the solution is usable (converged or stopped at a limit)
+  std::string termination;  // Ceres' termination type and message
+};
+
+// Minimises the residual block `cost` (ownership taken) over x (size p, updated in place).
+// fixed[i] holds x[i]; lower/upper bound the others (infinite entries mean no bound).
+CeresRun RunCeres(ceres::CostFunction* cost, std::vector<double>& x, const std::vector<bool>& fixed,
+                  const std::vector<double>& lower, const std::vector<double>& upper,
+                  const SolveOptions& options, size_t residuals);
+
+// (J'J)^-1 at x from ceres::Covariance (dense SVD; rows and columns of held parameters are
+// zero). Returns false when Ceres finds it rank-deficient. Takes ownership of cost.
+bool CeresCovariance(ceres::CostFunction* cost, const std::vector<double>& x,
+                     const std::vector<bool>& fixed, Eigen::MatrixXd& covariance);
+
+// Empty when the column-scaled J'J of the free parameters is well conditioned (reciprocal
+// condition >= 1e-12); otherwise a sentence naming the parameter(s) dominating its null
+// direction, e.g. "the data cannot determine time_constant_2 and dead_time separately (...)".
+std::string DescribeRankDeficiency(const Eigen::MatrixXd& jtj, const std::vector<bool>& fixed,
+                                   const std::vector<std::string>& names);
+
+}  // namespace lw
+
+#endif  // LOOPWRIGHT_IDENTIFY_CERES_SOLVE_H_

@@ -1,0 +1,413 @@
+#include "identify/fit.h"
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <memory>
+#include <numbers>
+#include <sstream>
+
+#include <ceres/loss_function.h>
+#include <boost/math/distributions/students_t.hpp>
+
+#include "identify/output_error.h"
+#include "identify/starting_values.h"
+#include "identify/structure_selection.h"
+#include "lti/error.h"
+
+namespace lw {
+namespace {
+
+constexpr double kInf = std::numeric_limits<double>::infinity();
+
+std::string Num(double v, int digits = 4) {
+  std::ostringstream o;
+  o.precision(digits);
+  o << v;
+  return o.str();
+}
+
+double MedianAbs(std::vector<double> r) {
+  if (r.empty()) return 0.0;
+  for (double& v : r) v = std::abs(v);
+  auto mid = r.begin() + static_cast<long>(r.size() / 2);
+  std::nth_element(r.begin(), mid, r.end());
+  return *mid;
+}
+
+// Bounds in the full layout (see fit.h for the rules).
+void Bounds(Structure s, double h, double d, std::vector<double>& lo, std::vector<double>& hi) {
+  const int p = FullParameterCount(s);
+  lo.assign(p, -kInf);
+  hi.assign(p, kInf);
+  const double tau_lo = 1e-3 * h, tau_hi = 1e3 * d;
+  auto tau = [&](int i) {
+    lo[i] = tau_lo;
+    hi[i] = tau_hi;
+  };
+  switch (s) {
+    case Structure::kFopdt:
+    case Structure::kIntegrating:
+      tau(1);
+      break;
+    case Structure::kSopdt:
+      tau(1);
+      tau(2);
+      break;
+    case Structure::kSopdtZero:
+      tau(1);
+      tau(2);
+      lo[3] = -tau_hi;
+      hi[3] = tau_hi;
+      break;
+    case Structure::kUnderdamped:
+      lo[1] = 1e-3;
+      hi[1] = 1.0;
+      lo[2] = 1e-3 / d;
+      hi[2] = std::numbers::pi / h;
+      break;
+  }
+  lo[DeadTimeIndex(s)] = 0.0;
+  hi[DeadTimeIndex(s)] = 0.9 * d;
+}
+
+struct Prepared {
+  std::vector<double> t, v, y, w;
+  OutputErrorProblem problem() const {
+    OutputErrorProblem pb;
+    pb.t = t;
+    pb.v = v;
+    pb.y = y;
+    pb.weight = w;
+    return pb;
+  }
+};
+
+Prepared Prepare(const StepRecording& rec, double u_base, size_t stride) {
+  Prepared p;
+  for (size_t i = 0; i < rec.t.size(); i += stride) {
+    p.t.push_back(rec.t[i]);
+    p.v.push_back(rec.u[i] - u_base);
+    p.y.push_back(rec.y[i]);
+  }
+  return p;
+}
+
+// Iteratively reweighted least squares for the robust losses.
+SolveReport Reweight(Prepared& data, Structure s, SolveReport report,
+                     const std::vector<bool>& fixed, const std::vector<double>& lo,
+                     const std::vector<double>& hi, FitOptions::Robust robust,
+                     const SolveOptions& so) {
+  for (int iter = 0; iter < 15; ++iter) {
+    OutputErrorProblem pb = data.problem();
+    pb.structure = s;
+    pb.weight = {};
+    std::vector<double> yhat = PredictOutput(pb, report.x);
+    std::vector<double> r(yhat.size());
+    for (size_t k = 0; k < r.size(); ++k) r[k] = yhat[k] - data.y[k];
+    const double scale = std::max(1.4826 * MedianAbs(r), 1e-300);
+    std::unique_ptr<ceres::LossFunction> loss;
+    if (robust == FitOptions::Robust::kHuber) {
+      loss = std::make_unique<ceres::HuberLoss>(1.345 * scale);
+    } else {
+      loss = std::make_unique<ceres::CauchyLoss>(2.385 * scale);
+    }
+    data.w.resize(r.size());
+    for (size_t k = 0; k < r.size(); ++k) {
+      double rho[3];
+      loss->Evaluate(r[k] * r[k], rho);
+      data.w[k] = rho[1];
+    }
+    pb = data.problem();
+    pb.structure = s;
+    std::vector<double> before = report.x;
+    report = SolveOutputError(pb, report.x, fixed, lo, hi, so);
+    double change = 0.0;
+    for (size_t i = 0; i < before.size(); ++i) {
+      change = std::max(change, std::abs(report.x[i] - before[i]) / (1e-12 + std::abs(before[i])));
+    }
+    if (change < 1e-7) break;
+  }
+  return report;
+}
+
+}  // namespace
+
+double StudentQuantile(double p, double dof) {
+  if (!(dof >= 1.0)) return std::numeric_limits<double>::quiet_NaN();
+  boost::math::students_t dist(dof);
+  return boost::math::quantile(dist, p);
+}
+
+void FitOptions::Validate() const {
+  if (structure != "auto") ParseStructure(structure);
+  if (!(window_start < window_end)) {
+    throw UsageError("window " + Num(window_start) + ":" + Num(window_end) +
+                     ": the start must be before the end");
+  }
+  if (decimate_to < 1000) {
+    throw UsageError("decimate_to " + std::to_string(decimate_to) + ": must be at least 1000");
+  }
+  if (decimate_above < decimate_to) {
+    throw UsageError("decimate_above " + std::to_string(decimate_above) +
+                     ": must be at least decimate_to (" + std::to_string(decimate_to) + ")");
+  }
+  if (start_samples < 100) {
+    throw UsageError("start_samples " + std::to_string(start_samples) + ": must be at least 100");
+  }
+  if (max_iterations < 1) {
+    throw UsageError("max_iterations " + std::to_string(max_iterations) + ": must be >= 1");
+  }
+}
+
+FitResult FitStructure(Structure s, const StepRecording& rec, const RecordingAnalysis& a,
+                       const FitOptions& options, const FitResult* seed) {
+  auto begin = std::chrono::steady_clock::now();
+  const size_t n = rec.t.size();
+  const double h = a.sample_period;
+  const double d = rec.t.back() - rec.t.front();
+  std::vector<double> lo, hi;
+  Bounds(s, h, d, lo, hi);
+  std::vector<bool> fixed(FullParameterCount(s), false);
+  fixed[DriftIndex(s)] = s != Structure::kIntegrating;
+
+  // Multi-start on a thinned copy, then the polish on every sample.
+  const size_t stride =
+      std::max<size_t>(1, (n + options.start_samples - 1) / options.start_samples);
+  Prepared coarse = Prepare(rec, a.input_baseline, stride);
+  Prepared full = Prepare(rec, a.input_baseline, 1);
+  std::vector<std::vector<double>> starts =
+      StartingValues(s, rec, a, seed ? seed->values : std::vector<double>{});
+  SolveOptions so;
+  so.max_iterations = 50;
+  so.compute_covariance = false;
+  OutputErrorProblem cpb = coarse.problem();
+  cpb.structure = s;
+  SolveReport best = SolveMultiStart(cpb, starts, fixed, lo, hi, so);
+  so.max_iterations = options.max_iterations;
+  so.compute_covariance = true;
+  OutputErrorProblem fpb = full.problem();
+  fpb.structure = s;
+  SolveReport report = SolveOutputError(fpb, best.x, fixed, lo, hi, so);
+  if (options.robust != FitOptions::Robust::kNone) {
+    report = Reweight(full, s, report, fixed, lo, hi, options.robust, so);
+    fpb = full.problem();
+    fpb.structure = s;
+  }
+
+  FitResult fit;
+  fit.structure = s;
+  fit.samples = n;
+  fit.free_parameters = report.free_parameters;
+  fit.iterations = report.iterations;
+  fit.converged = report.converged;
+  fit.termination = report.termination;
+  fit.input_baseline = a.input_baseline;
+  fit.rank_deficiency = report.rank_deficiency;
+  fit.covariance_ok = report.covariance_ok;
+
+  // Canonical order (tau1 >= tau2) for values and covariance.
+  const int ps = ParameterCount(s);
+  std::vector<double> x = report.x;
+  std::vector<int> perm = Canonicalize(s, std::span<double>(x.data(), static_cast<size_t>(ps)));
+  fit.values.assign(x.begin(), x.begin() + ps);
+  const int pf = FullParameterCount(s);
+  Eigen::MatrixXd cov_full =
+      report.covariance.size() ? report.covariance : Eigen::MatrixXd::Zero(pf, pf);
+  std::vector<int> full_perm(pf);
+  for (int i = 0; i < pf; ++i) full_perm[i] = i < ps ? perm[i] : i;
+  Eigen::MatrixXd cov(pf, pf);
+  for (int i = 0; i < pf; ++i) {
+    for (int j = 0; j < pf; ++j) cov(i, j) = cov_full(full_perm[i], full_perm[j]);
+  }
+  fit.covariance = cov.topLeftCorner(ps, ps);
+
+  const double dof = static_cast<double>(n) - report.free_parameters;
+  const double tq = StudentQuantile(0.975, dof);
+  auto estimate = [&](const std::string& name, const std::string& unit, int i) {
+    ParameterEstimate e;
+    e.name = name;
+    e.unit = unit;
+    e.value = x[i];
+    if (fit.covariance_ok && cov(i, i) >= 0.0) {
+      e.sd = std::sqrt(cov(i, i));
+      e.ci_low = e.value - tq * e.sd;
+      e.ci_high = e.value + tq * e.sd;
+    }
+    return e;
+  };
+  std::vector<ParameterInfo> infos = ParameterInfos(s, options.input_unit, options.output_unit);
+  for (int i = 0; i < ps; ++i) fit.parameters.push_back(estimate(infos[i].name, infos[i].unit, i));
+  const std::string yu = options.output_unit.empty() ? "output" : options.output_unit;
+  fit.output_offset = estimate("output_offset", yu, OffsetIndex(s));
+  if (!fixed[DriftIndex(s)]) fit.output_drift = estimate("output_drift", yu + "/s", DriftIndex(s));
+  fit.tf = StructureTransferFunction(s, fit.values);
+
+  // Quality of the fit on every sample, unweighted.
+  OutputErrorProblem plain = fpb;
+  plain.weight = {};
+  std::vector<double> yhat = PredictOutput(plain, report.x);
+  double rss = 0.0, ss = 0.0, ymean = 0.0;
+  for (double v : rec.y) ymean += v;
+  ymean /= static_cast<double>(n);
+  std::vector<double> r(n);
+  for (size_t k = 0; k < n; ++k) {
+    r[k] = rec.y[k] - yhat[k];
+    rss += r[k] * r[k];
+    ss += (rec.y[k] - ymean) * (rec.y[k] - ymean);
+  }
+  fit.residual_rms = std::sqrt(rss / static_cast<double>(n));
+  fit.fit_percent = ss > 0.0 ? 100.0 * (1.0 - std::sqrt(rss / ss)) : 0.0;
+  fit.aicc = Aicc(rss, n, report.free_parameters);
+  fit.bic = Bic(rss, n, report.free_parameters);
+
+  // Warnings about this model.
+  const double dead = fit.values.back();
+  if (dead < h && dead > 0.0) {
+    fit.warnings.push_back("the dead time (" + Num(dead) + " s) is below one sample period (" +
+                           Num(h) + " s): it rests on interpolation between samples");
+  }
+  if (!fit.rank_deficiency.empty()) {
+    fit.warnings.push_back("no confidence intervals: " + fit.rank_deficiency);
+  }
+  for (int i = 1; i < ps - 1; ++i) {
+    const double v = fit.values[i];
+    if (s == Structure::kUnderdamped && i == 1 && v >= 0.999) {
+      fit.warnings.push_back("the damping ratio reached 1 (the response is not underdamped)");
+    } else if ((s != Structure::kUnderdamped) && std::isfinite(lo[i]) && v <= lo[i] * 1.0001 &&
+               lo[i] > 0) {
+      fit.warnings.push_back(fit.parameters[i].name + " reached its lower bound (" + Num(lo[i]) +
+                             " s): the data show no such lag");
+    }
+  }
+  if (options.robust == FitOptions::Robust::kNone) {
+    const double sd = 1.4826 * MedianAbs(r);
+    size_t outliers = 0;
+    double first_t = 0.0;
+    for (size_t k = 0; k < n; ++k) {
+      if (sd > 0.0 && std::abs(r[k]) > 5.0 * sd) {
+        if (!outliers) first_t = rec.t[k];
+        ++outliers;
+      }
+    }
+    if (outliers) {
+      fit.warnings.push_back(std::to_string(outliers) +
+                             " outliers (residual beyond 5 robust sd), the first at t = " +
+                             Num(first_t) + " s; consider --robust");
+    }
+  }
+  fit.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - begin).count();
+  return fit;
+}
+
+Identification Identify(const StepRecording& recording, const FitOptions& options) {
+  options.Validate();
+  if (recording.u.size() != recording.t.size() || recording.y.size() != recording.t.size()) {
+    throw DataError("time, input and output columns differ in length");
+  }
+  Identification id;
+  StepRecording rec = recording;
+  if (std::isfinite(options.window_start) || std::isfinite(options.window_end)) {
+    rec = SelectWindow(recording, options.window_start, options.window_end);
+    if (rec.t.size() < 10) {
+      throw UsageError("window " + Num(options.window_start) + ":" + Num(options.window_end) +
+                       " keeps " + std::to_string(rec.t.size()) +
+                       " samples: a fit needs at least 10");
+    }
+  }
+  id.samples_in = rec.t.size();
+  if (rec.t.size() > options.decimate_above) {
+    id.decimation =
+        static_cast<int>((rec.t.size() + options.decimate_to - 1) / options.decimate_to);
+    AnalyseRecording(rec.t, rec.u, rec.y);  // refuse bad data before filtering hides it
+    rec = Decimate(rec, id.decimation);
+    id.warnings.push_back("the record was decimated by " + std::to_string(id.decimation) + " (" +
+                          std::to_string(id.samples_in) + " -> " + std::to_string(rec.t.size()) +
+                          " samples) after an anti-alias low-pass filter");
+  }
+  RecordingAnalysis a = AnalyseRecording(rec.t, rec.u, rec.y);
+  id.analysis = a;
+  if (a.steps.size() > 1) {
+    id.warnings.push_back(std::to_string(a.steps.size()) +
+                          " steps found in the input (all used by the fit)");
+  }
+  if (!a.settled) {
+    id.warnings.push_back("the response has not settled by the end of the record");
+  }
+  if (std::abs(a.output_change) < 10.0 * a.output_noise_sd) {
+    id.warnings.push_back("the step is small for the noise: output change " + Num(a.output_change) +
+                          " against noise sd " + Num(a.output_noise_sd) +
+                          " (common practice asks for at least 10 times)");
+  }
+  if (!a.uniform) {
+    id.warnings.push_back("irregular sampling (intervals from " + Num(a.min_interval) + " to " +
+                          Num(a.max_interval) + " s): the fit uses the recorded instants exactly");
+  }
+  if (a.clipped_samples >= 3) {
+    id.warnings.push_back("the output sits at " + Num(a.clipped_level) + " for " +
+                          std::to_string(a.clipped_samples) +
+                          " samples from t = " + Num(a.clipped_from) + " s: possible saturation");
+  }
+  if (a.baseline_samples < 5) {
+    id.warnings.push_back("only " + std::to_string(a.baseline_samples) +
+                          " samples before the first step: the baseline is uncertain");
+  }
+
+  if (options.structure != "auto") {
+    Structure s = ParseStructure(options.structure);
+    FitResult seed;
+    const FitResult* seed_ptr = nullptr;
+    if (s != Structure::kFopdt) {
+      seed = FitStructure(s == Structure::kSopdtZero ? Structure::kSopdt : Structure::kFopdt, rec,
+                          a, options);
+      seed_ptr = &seed;
+    }
+    id.model = FitStructure(s, rec, a, options, seed_ptr);
+    if (!id.model.converged) {
+      throw JobFailed("the " + std::string(StructureName(s)) +
+                      " fit did not converge (Ceres: " + id.model.termination + ")");
+    }
+  } else {
+    id.automatic = true;
+    std::vector<FitResult> fits;
+    std::vector<double> crit;
+    std::vector<bool> usable;
+    FitResult fopdt, sopdt;
+    for (Structure s : AllStructures()) {
+      Candidate c;
+      c.structure = s;
+      if (s == Structure::kIntegrating && a.settled) {
+        c.note = "not tried: the response settles";
+        id.candidates.push_back(c);
+        fits.emplace_back();
+        crit.push_back(kInf);
+        usable.push_back(false);
+        continue;
+      }
+      const FitResult* seed = s == Structure::kFopdt       ? nullptr
+                              : s == Structure::kSopdtZero ? &sopdt
+                                                           : &fopdt;
+      FitResult f = FitStructure(s, rec, a, options, seed);
+      if (s == Structure::kFopdt) fopdt = f;
+      if (s == Structure::kSopdt) sopdt = f;
+      c.usable = f.converged;
+      if (!f.converged) c.note = "did not converge";
+      c.fit_percent = f.fit_percent;
+      c.residual_rms = f.residual_rms;
+      c.aicc = f.aicc;
+      c.free_parameters = f.free_parameters;
+      id.candidates.push_back(c);
+      crit.push_back(f.aicc);
+      usable.push_back(c.usable);
+      fits.push_back(std::move(f));
+    }
+    int best = SelectMinimum(crit, usable);
+    if (best < 0) throw JobFailed("no structure could be fitted to the recording");
+    for (auto& c : id.candidates) c.delta_aicc = c.usable ? c.aicc - crit[best] : kInf;
+    id.model = fits[static_cast<size_t>(best)];
+  }
+  for (const auto& w : id.model.warnings) id.warnings.push_back(w);
+  return id;
+}
+
+}  // namespace lw

@@ -1,0 +1,126 @@
+// Plant identification from a step-test recording: the library behind `loopwright fit`.
+//
+// Method (output error): the model's response is simulated exactly from the recorded input
+// (any shape: one step, several, a PRBS) by the response kernel (response_kernel.h) and Ceres
+// minimises the squared difference to the recorded output over the structure's parameters, an
+// output offset and, for `integrating`, an output drift (an input offset the baseline missed).
+// The input baseline is the mean of the samples before the first step. The dead time is a
+// continuous parameter (fractional samples). Bounds keep parameters physical: time constants in
+// [h/1000, 1000 D], 0.001 <= zeta <= 1, wn in [0.001/D, pi/h], 0 <= T <= 0.9 D, |tauz| <= 1000 D
+// (h the median sample period, D the record length).
+//
+// Starting values: the gain from baseline and settled averages, tau and T from Smith's two-point
+// method (two_point.h), then a multi-start over the dead time (and for the richer structures
+// over their extra parameters, seeded by the simpler fits) run on at most `start_samples`
+// samples; the best start is polished on every sample.
+//
+// Uncertainty: 95 % intervals value +- t(0.975, n - p) sd from Ceres' covariance scaled by the
+// residual variance RSS/(n - p). When J'J is singular or nearly so the intervals are not given
+// and `rank_deficiency` names the parameter the data cannot determine.
+//
+// Fit percentage: 100 (1 - |y - yhat| / |y - mean(y)|) (normalised RMS error; 100 is perfect).
+//
+// Robust option: iteratively reweighted least squares with Ceres' Huber (a = 1.345 s) or Cauchy
+// (a = 2.385 s) loss, s the robust residual scale 1.4826 MAD; the constants give 95 % efficiency
+// on Gaussian noise (Holland & Welsch 1977; from memory). The covariance is then that of the
+// final weighted problem.
+#ifndef LOOPWRIGHT_IDENTIFY_FIT_H_
+#define LOOPWRIGHT_IDENTIFY_FIT_H_
+
+#include <limits>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include <Eigen/Dense>
+
+#include "identify/model_structure.h"
+#include "identify/preprocess.h"
+#include "identify/step_detection.h"
+#include "lti/transfer_function.h"
+
+namespace lw {
+
+struct FitOptions {
+  std::string structure = "auto";  // a structure name (model_structure.h) or "auto"
+  enum class Robust { kNone, kHuber, kCauchy };
+  Robust robust = Robust::kNone;
+  // Only samples with window_start <= t <= window_end are used.
+  double window_start = -std::numeric_limits<double>::infinity();
+  double window_end = std::numeric_limits<double>::infinity();
+  size_t decimate_above = 1'000'000;    // records longer than this are decimated ...
+  size_t decimate_to = 200'000;         // ... to at most this many samples
+  size_t start_samples = 2000;          // the multi-start runs on at most this many samples
+  int max_iterations = 100;             // Ceres iterations of the final polish
+  std::string input_unit, output_unit;  // for parameter units, may be empty
+  // Throws UsageError naming the field, its value and the rule it broke.
+  void Validate() const;
+};
+
+struct ParameterEstimate {
+  std::string name, unit;
+  double value = 0.0;
+  double sd = std::numeric_limits<double>::quiet_NaN();  // NaN when not determined
+  double ci_low = std::numeric_limits<double>::quiet_NaN();
+  double ci_high = std::numeric_limits<double>::quiet_NaN();
+};
+
+struct FitResult {
+  Structure structure = Structure::kFopdt;
+  std::vector<ParameterEstimate> parameters;  // the structure's, in its fixed order
+  std::vector<double> values;                 // the same values, plain
+  Eigen::MatrixXd covariance;                 // of `values`, in that order
+  bool covariance_ok = false;
+  std::string rank_deficiency;                    // empty when every parameter is determined
+  ParameterEstimate output_offset;                // output units: the model's output at rest
+  std::optional<ParameterEstimate> output_drift;  // integrating only, output units / s
+  double input_baseline = 0.0;
+  TransferFunction tf;
+  double fit_percent = 0.0;
+  double residual_rms = 0.0;
+  double aicc = 0.0, bic = 0.0;
+  size_t samples = 0;
+  int free_parameters = 0;
+  int iterations = 0;
+  bool converged = false;
+  std::string termination;  // Ceres' termination and message
+  double seconds = 0.0;
+  std::vector<std::string> warnings;  // about this model
+};
+
+struct Candidate {
+  Structure structure = Structure::kFopdt;
+  bool usable = false;
+  std::string note;  // why not usable, or empty
+  double fit_percent = 0.0, residual_rms = 0.0, aicc = 0.0, delta_aicc = 0.0;
+  int free_parameters = 0;
+};
+
+struct Identification {
+  FitResult model;  // the chosen (or requested) structure's fit
+  bool automatic = false;
+  std::vector<Candidate> candidates;  // `auto` only, in AllStructures() order
+  std::string criterion = "AICc";
+  std::vector<std::string> warnings;  // about the recording, then about the model
+  RecordingAnalysis analysis;
+  size_t samples_in = 0;  // after the window, before decimation
+  int decimation = 1;     // factor applied (1: none)
+};
+
+// Identifies a model from the recording. Throws DataError for an unusable recording (see
+// AnalyseRecording), UsageError for bad options or a window with fewer than 10 samples, and
+// JobFailed when no structure could be fitted (Ceres failed or did not converge).
+Identification Identify(const StepRecording& recording, const FitOptions& options);
+
+// Fits one structure to a recording already analysed (deviation input v = u - baseline);
+// used by Identify and by tests. `seed` optionally provides a fit of a simpler structure
+// (fopdt for the others, sopdt for sopdt-zero) to start from.
+FitResult FitStructure(Structure s, const StepRecording& recording, const RecordingAnalysis& a,
+                       const FitOptions& options, const FitResult* seed = nullptr);
+
+// Student t quantile (two-sided 95 %: p = 0.975) for dof degrees of freedom.
+double StudentQuantile(double p, double dof);
+
+}  // namespace lw
+
+#endif  // LOOPWRIGHT_IDENTIFY_FIT_H_

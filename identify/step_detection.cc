@@ -1,0 +1,169 @@
+#include "identify/step_detection.h"
+
+#include <algorithm>
+#include <cmath>
+#include <numeric>
+#include <sstream>
+
+#include "lti/error.h"
+
+namespace lw {
+namespace {
+
+double Median(std::vector<double> v) {
+  if (v.empty()) return 0.0;
+  auto mid = v.begin() + static_cast<long>(v.size() / 2);
+  std::nth_element(v.begin(), mid, v.end());
+  return *mid;
+}
+
+double Mean(std::span<const double> v) {
+  return v.empty() ? 0.0 : std::accumulate(v.begin(), v.end(), 0.0) / static_cast<double>(v.size());
+}
+
+std::string Num(double v) {
+  std::ostringstream o;
+  o.precision(6);
+  o << v;
+  return o.str();
+}
+
+void CheckFinite(std::span<const double> x, const char* what) {
+  size_t bad = 0, first = x.size();
+  for (size_t i = 0; i < x.size(); ++i) {
+    if (!std::isfinite(x[i])) {
+      if (first == x.size()) first = i;
+      ++bad;
+    }
+  }
+  if (bad == x.size()) {
+    throw DataError(std::string("the ") + what + " column has no finite values");
+  }
+  if (bad) {
+    throw DataError(std::string("the ") + what + " is not a finite number at sample " +
+                    std::to_string(first + 1) + " (" + std::to_string(bad) +
+                    " such samples); remove or fill them before fitting");
+  }
+}
+
+// Longest run of samples exactly at the extreme `level`.
+void LongestRunAt(std::span<const double> y, std::span<const double> t, double level, size_t& best,
+                  double& from) {
+  size_t run = 0;
+  for (size_t i = 0; i < y.size(); ++i) {
+    run = (y[i] == level) ? run + 1 : 0;
+    if (run > best) {
+      best = run;
+      from = t[i + 1 - run];
+    }
+  }
+}
+
+}  // namespace
+
+double DifferenceNoiseSd(std::span<const double> x) {
+  if (x.size() < 3) return 0.0;
+  std::vector<double> d(x.size() - 1);
+  for (size_t i = 1; i < x.size(); ++i) d[i - 1] = x[i] - x[i - 1];
+  double med = Median(d);
+  for (double& v : d) v = std::abs(v - med);
+  return 1.4826 * Median(d) / std::sqrt(2.0);
+}
+
+RecordingAnalysis AnalyseRecording(std::span<const double> t, std::span<const double> u,
+                                   std::span<const double> y) {
+  const size_t n = t.size();
+  if (u.size() != n || y.size() != n) {
+    throw DataError("time, input and output columns differ in length");
+  }
+  if (n < 10) {
+    throw DataError("only " + std::to_string(n) +
+                    " samples: a fit needs at least 10 (a baseline, the response, its end)");
+  }
+  CheckFinite(t, "time");
+  CheckFinite(u, "input");
+  CheckFinite(y, "output");
+  RecordingAnalysis a;
+  std::vector<double> dt(n - 1);
+  for (size_t i = 1; i < n; ++i) {
+    dt[i - 1] = t[i] - t[i - 1];
+    if (!(dt[i - 1] > 0.0)) {
+      throw DataError("time does not increase at sample " + std::to_string(i + 1) +
+                      " (t = " + Num(t[i]) + " s after " + Num(t[i - 1]) + " s)");
+    }
+  }
+  a.sample_period = Median(dt);
+  a.min_interval = *std::min_element(dt.begin(), dt.end());
+  a.max_interval = *std::max_element(dt.begin(), dt.end());
+  const double mean_dt = (t[n - 1] - t[0]) / static_cast<double>(n - 1);
+  a.uniform =
+      a.max_interval - mean_dt <= 1e-6 * mean_dt && mean_dt - a.min_interval <= 1e-6 * mean_dt;
+
+  const auto [umin, umax] = std::minmax_element(u.begin(), u.end());
+  const double range = *umax - *umin;
+  if (!(range > 1e-12 * std::max(1.0, std::abs(*umax)))) {
+    throw DataError("the input is constant (" + Num(*umin) +
+                    " throughout): a step test needs the input to change");
+  }
+  const double u_noise = DifferenceNoiseSd(u);
+  for (size_t i = 1; i < n; ++i) {
+    double jump = std::abs(u[i] - u[i - 1]);
+    if (jump >= 0.25 * range && jump >= 5.0 * u_noise) {
+      if (a.steps.empty() || a.steps.back() + 1 != i) {
+        a.steps.push_back(i);
+      } else {
+        a.steps.back() = i;  // a step spread over two samples counts once, at its end
+      }
+    }
+  }
+  if (a.steps.empty()) {
+    throw DataError("no step found in the input: it never jumps by a quarter of its range (" +
+                    Num(range) + ") from one sample to the next");
+  }
+  const size_t first = a.steps.front();
+  a.baseline_samples = first;
+  a.input_baseline = Mean(u.first(first));
+  a.output_baseline = Mean(y.first(first));
+  const size_t seg_end = a.steps.size() > 1 ? a.steps[1] : n;
+  a.input_change = Mean(u.subspan(first, seg_end - first)) - a.input_baseline;
+  const size_t seg = seg_end - first;
+  const size_t tail = std::max<size_t>(std::min<size_t>(5, seg), seg / 10);
+  a.output_final = Mean(y.subspan(seg_end - tail, tail));
+  a.output_change = a.output_final - a.output_baseline;
+  a.output_noise_sd = DifferenceNoiseSd(y);
+
+  // Settled: slope of a straight line through the last 20 % of the record.
+  const size_t k0 = n - std::max<size_t>(5, n / 5);
+  std::span<const double> tt = t.subspan(k0), yy = y.subspan(k0);
+  const double tm = Mean(tt), ym = Mean(yy);
+  double sxy = 0.0, sxx = 0.0;
+  for (size_t i = 0; i < tt.size(); ++i) {
+    sxy += (tt[i] - tm) * (yy[i] - ym);
+    sxx += (tt[i] - tm) * (tt[i] - tm);
+  }
+  const double moved = sxx > 0.0 ? std::abs(sxy / sxx) * (tt.back() - tt.front()) : 0.0;
+  a.settled = moved <= 0.02 * std::abs(a.output_change) + 3.0 * a.output_noise_sd;
+
+  // Clipping: a flat run at an extreme while the record is otherwise noisy.
+  const auto [ymin, ymax] = std::minmax_element(y.begin(), y.end());
+  size_t run_hi = 0, run_lo = 0;
+  double from_hi = 0.0, from_lo = 0.0;
+  LongestRunAt(y, t, *ymax, run_hi, from_hi);
+  LongestRunAt(y, t, *ymin, run_lo, from_lo);
+  const bool noisy = a.output_noise_sd > 1e-9 * std::max(1.0, std::abs(*ymax - *ymin));
+  if (noisy && std::max(run_hi, run_lo) >= 3) {
+    const bool hi = run_hi >= run_lo;
+    a.clipped_samples = hi ? run_hi : run_lo;
+    a.clipped_level = hi ? *ymax : *ymin;
+    a.clipped_from = hi ? from_hi : from_lo;
+  }
+  if (a.clipped_samples >= std::max<size_t>(5, n / 100)) {
+    throw DataError("the output is clipped: it stays exactly at " + Num(a.clipped_level) + " for " +
+                    std::to_string(a.clipped_samples) + " samples from t = " + Num(a.clipped_from) +
+                    " s while the rest of the record is noisy (sensor or converter saturated); "
+                    "record again within range or fit a --window before it");
+  }
+  return a;
+}
+
+}  // namespace lw
