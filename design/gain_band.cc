@@ -1,5 +1,6 @@
 #include "design/gain_band.h"
 
+#include <algorithm>
 #include <cmath>
 #include <limits>
 
@@ -20,11 +21,10 @@ struct Piece {
 double LogPoint(double lo, double hi, double f) { return lo * std::pow(hi / lo, f); }
 
 // Bisection in log K between a gain with verdict `va` and one with the opposite verdict.
-double LocateSwitch(const LoopPolynomials& loop, const Region& region, double a, double b,
-                    bool va) {
+double LocateSwitch(const std::function<PoleVerdict(double)>& judge, double a, double b, bool va) {
   for (int it = 0; it < 200 && b / a - 1.0 > 1e-12; ++it) {
     double m = std::sqrt(a * b);
-    if (JudgeGain(loop, region, m).meets == va)
+    if (judge(m).meets == va)
       a = m;
     else
       b = m;
@@ -32,10 +32,10 @@ double LocateSwitch(const LoopPolynomials& loop, const Region& region, double a,
   return std::sqrt(a * b);
 }
 
-BandEdge EdgeAt(const LoopPolynomials& loop, const Region& region, double gain, Boundary b,
+BandEdge EdgeAt(const std::function<PoleVerdict(double)>& judge, double gain, Boundary b,
                 Complex pole) {
   BandEdge e{gain, b, pole, Complex(kNaN, kNaN)};
-  if (gain > 0.0 && std::isfinite(gain)) e.dominant = JudgeGain(loop, region, gain).dominant;
+  if (gain > 0.0 && std::isfinite(gain)) e.dominant = judge(gain).dominant;
   return e;
 }
 
@@ -52,10 +52,22 @@ GainSet LocusBand::gains() const {
 }
 
 LocusBand FindLocusBand(const LoopPolynomials& loop, const Region& region) {
+  Complex s(0.0, loop.FrequencyScale());
+  double ref = std::abs(loop.a(s)) / std::max(std::abs(loop.b(s)), 1e-300);
+  return BandFromCrossings(
+      AllCrossings(loop, region), [&](double k) { return JudgeGain(loop, region, k); }, ref, region,
+      loop.pade_order);
+}
+
+LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
+                            const std::function<PoleVerdict(double)>& judge, double ref,
+                            const Region& region, int pade_order) {
   LocusBand band;
   band.region = region;
-  band.pade_order = loop.pade_order;
-  band.crossings = AllCrossings(loop, region);
+  band.pade_order = pade_order;
+  std::sort(crossings.begin(), crossings.end(),
+            [](const BoundaryCrossing& x, const BoundaryCrossing& y) { return x.gain < y.gain; });
+  band.crossings = std::move(crossings);
   // Unique gains (1e-10 relative), each with the first crossing found there.
   std::vector<BoundaryCrossing> cuts;
   for (const auto& c : band.crossings) {
@@ -66,14 +78,9 @@ LocusBand FindLocusBand(const LoopPolynomials& loop, const Region& region) {
   // Interval bounds: 0, cuts..., inf.
   std::vector<BandEdge> bounds;
   bounds.push_back({0.0, Boundary::kGainZero, nan_pole, nan_pole});
-  for (const auto& c : cuts) bounds.push_back(EdgeAt(loop, region, c.gain, c.boundary, c.pole));
+  for (const auto& c : cuts) bounds.push_back(EdgeAt(judge, c.gain, c.boundary, c.pole));
   bounds.push_back({kInf, Boundary::kUnbounded, nan_pole, nan_pole});
 
-  double ref = 1.0;  // a gain scale when there are no cuts: |a/b| at the frequency scale
-  if (cuts.empty()) {
-    Complex s(0.0, loop.FrequencyScale());
-    ref = std::abs(loop.a(s)) / std::max(std::abs(loop.b(s)), 1e-300);
-  }
   std::vector<Piece> pieces;
   for (size_t i = 0; i + 1 < bounds.size(); ++i) {
     double lo = bounds[i].gain, hi = bounds[i + 1].gain;
@@ -84,15 +91,15 @@ LocusBand FindLocusBand(const LoopPolynomials& loop, const Region& region) {
     bool v[3];
     for (int k = 0; k < 3; ++k) {
       g[k] = LogPoint(jl, jh, fr[k]);
-      v[k] = JudgeGain(loop, region, g[k]).meets;
+      v[k] = judge(g[k]).meets;
     }
     // Split at switches between disagreeing samples.
     std::vector<Piece> local;
     local.push_back({lo, hi, v[0], bounds[i], bounds[i + 1]});
     for (int k = 0; k < 2; ++k) {
       if (v[k] == v[k + 1]) continue;
-      double sw = LocateSwitch(loop, region, g[k], g[k + 1], v[k]);
-      BandEdge e = EdgeAt(loop, region, sw, Boundary::kDominanceSwitch, nan_pole);
+      double sw = LocateSwitch(judge, g[k], g[k + 1], v[k]);
+      BandEdge e = EdgeAt(judge, sw, Boundary::kDominanceSwitch, nan_pole);
       local.back().hi = sw;
       local.back().hi_edge = e;
       local.push_back({sw, hi, v[k + 1], e, bounds[i + 1]});

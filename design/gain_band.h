@@ -20,6 +20,7 @@
 #define LOOPWRIGHT_DESIGN_GAIN_BAND_H_
 
 #include <complex>
+#include <functional>
 #include <vector>
 
 #include "design/boundary_crossings.h"
@@ -51,6 +52,13 @@ struct LocusBand {
 };
 
 LocusBand FindLocusBand(const LoopPolynomials& loop, const Region& region);
+
+// Steps 2 and 3 above for any loop: `crossings` are its boundary gains (any order), `judge`
+// gives the verdict at a gain, `ref_gain` a gain scale used only when there are no crossings.
+// (The discrete band, discrete_band.h, uses it with poles mapped from z.)
+LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
+                            const std::function<PoleVerdict(double)>& judge, double ref_gain,
+                            const Region& region, int pade_order);
 
 // JudgePoles(loop.PolesAt(gain), region).
 PoleVerdict JudgeGain(const LoopPolynomials& loop, const Region& region, double gain);
