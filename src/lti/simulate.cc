@@ -44,23 +44,48 @@ using Eigen::MatrixXd;
 using Eigen::RowVectorXd;
 using Eigen::VectorXd;
 
-void CheckGrid(std::span<const double> t, std::span<const double> u, const char* what) {
-  if (t.size() != u.size()) {
+// The mean period when t is uniform to 1e-9 of it, else 0 (also for non-finite times).
+double UniformPeriod(std::span<const double> t) {
+  const size_t n = t.size();
+  if (n < 2) return 0.0;
+  const double t0 = t[0], h = (t[n - 1] - t0) / static_cast<double>(n - 1), tol = 1e-9 * h;
+  if (!std::isfinite(t0) || !std::isfinite(h) || !(h > 0.0)) return 0.0;
+  // Four independent lanes so the loop is not bound by one chain of comparisons; a NaN fails
+  // every comparison and so counts as off the grid.
+  long off = 0;
+  size_t k = 1;
+  for (; k + 4 <= n; k += 4) {
+    const double kd = static_cast<double>(k);
+    off += !(std::abs(t[k] - (t0 + kd * h)) <= tol) +
+           !(std::abs(t[k + 1] - (t0 + (kd + 1) * h)) <= tol) +
+           !(std::abs(t[k + 2] - (t0 + (kd + 2) * h)) <= tol) +
+           !(std::abs(t[k + 3] - (t0 + (kd + 3) * h)) <= tol);
+  }
+  for (; k < n; ++k) off += !(std::abs(t[k] - (t0 + static_cast<double>(k) * h)) <= tol);
+  return off == 0 ? h : 0.0;
+}
+
+// Checks the preconditions on t and the values v; returns the period when t is uniform, else 0.
+// A uniform grid (h > 0, finite ends) is finite and strictly increasing, so it needs no second
+// pass; each pass counts failures without branches and only a failure looks for the message.
+double CheckGrid(std::span<const double> t, std::span<const double> v, const char* what) {
+  if (t.size() != v.size()) {
     throw UsageError("simulation needs one " + std::string(what) + " value per time: got " +
-                     std::to_string(t.size()) + " times and " + std::to_string(u.size()) +
+                     std::to_string(t.size()) + " times and " + std::to_string(v.size()) +
                      " values");
   }
   if (t.empty()) throw UsageError("simulation needs at least one time");
-  // One pass that counts failures without branches (vectorisable); the message needs a second.
-  // Monotone times with finite ends are all finite.
   const size_t n = t.size();
-  long bad = !std::isfinite(t[0]) + !std::isfinite(t[n - 1]);
-  for (size_t i = 1; i < n; ++i) bad += !(t[i] > t[i - 1]);
-  for (size_t i = 0; i < n; ++i) bad += !(std::abs(u[i]) <= std::numeric_limits<double>::max());
-  const bool ok = bad == 0;
-  if (ok) return;
-  for (size_t i = 0; i < t.size(); ++i) {
-    if (!std::isfinite(t[i]) || !std::isfinite(u[i])) {
+  const double h = UniformPeriod(t);
+  long bad = 0;
+  for (size_t i = 0; i < n; ++i) bad += !(std::abs(v[i]) <= std::numeric_limits<double>::max());
+  if (h == 0.0) {
+    bad += !std::isfinite(t[0]) + !std::isfinite(t[n - 1]);
+    for (size_t i = 1; i < n; ++i) bad += !(t[i] > t[i - 1]);
+  }
+  if (bad == 0) return h;
+  for (size_t i = 0; i < n; ++i) {
+    if (!std::isfinite(t[i]) || !std::isfinite(v[i])) {
       throw UsageError("simulation sample " + std::to_string(i) + " has a non-finite time or " +
                        what + " value");
     }
@@ -69,26 +94,7 @@ void CheckGrid(std::span<const double> t, std::span<const double> u, const char*
                        "] = " + std::to_string(t[i]) + " follows " + std::to_string(t[i - 1]));
     }
   }
-}
-
-// The mean period when t is uniform to 1e-9 of it, else 0.
-double UniformPeriod(std::span<const double> t) {
-  const size_t n = t.size();
-  if (n < 2) return 0.0;
-  const double t0 = t[0], h = (t[n - 1] - t0) / static_cast<double>(n - 1), tol = 1e-9 * h;
-  // Four independent lanes so the loop is not bound by one chain of comparisons.
-  long off = 0;
-  size_t k = 1;
-  for (; k + 4 <= n; k += 4) {
-    const double kd = static_cast<double>(k);
-    off += (std::abs(t[k] - (t0 + kd * h)) > tol) +
-           (std::abs(t[k + 1] - (t0 + (kd + 1) * h)) > tol) +
-           (std::abs(t[k + 2] - (t0 + (kd + 2) * h)) > tol) +
-           (std::abs(t[k + 3] - (t0 + (kd + 3) * h)) > tol);
-  }
-  for (; k < n; ++k) off += std::abs(t[k] - (t0 + static_cast<double>(k) * h)) > tol;
-  const bool uniform = off == 0;
-  return uniform ? h : 0.0;
+  return h;
 }
 
 // Hold blocks cached by interval length, rounded to `resolution` times the longest length that
@@ -375,14 +381,13 @@ class DelayedLoop {
 
 std::vector<double> Simulate(const TransferFunction& plant, std::span<const double> t,
                              std::span<const double> u, const SimulateOptions& options) {
-  CheckGrid(t, u, "input");
+  const double h = CheckGrid(t, u, "input");
   const StateSpace ss = Realize(plant);
   const bool at_rest =
       options.initial == SimulateOptions::Initial::kSteadyState && !HasRootAtOrigin(plant.den());
   const double before = at_rest ? u[0] : 0.0;
   const VectorXd x0 = at_rest ? SteadyState(ss, u[0]) : VectorXd::Zero(ss.order());
   std::vector<double> y(t.size());
-  const double h = UniformPeriod(t);
   if (h > 0.0) {
     RunSampledAnyOrder(SampleZoh(ss, h, plant.delay()), u, before, x0, y);
   } else {
@@ -394,7 +399,7 @@ std::vector<double> Simulate(const TransferFunction& plant, std::span<const doub
 ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Controller& controller,
                                       double gain, std::span<const double> t,
                                       std::span<const double> r, const SimulateOptions& options) {
-  CheckGrid(t, r, "reference");
+  const double period = CheckGrid(t, r, "reference");
   if (!std::isfinite(gain)) throw UsageError("controller gain must be finite");
   const TransferFunction ctrl = controller.WithGain(gain);
   const StateSpace p = Realize(plant);
@@ -441,11 +446,10 @@ ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Contr
     c_out.row(0) = m.cy + m.dy * cu;
     c_out.row(1) = cu;
     const Eigen::Vector2d d_out(m.dy * du, du);
-    const double h = UniformPeriod(t);
-    if (h > 0.0) {
+    if (period > 0.0) {
       for (int row = 0; row < 2; ++row) {
         const StateSpace part{a, b, c_out.row(row), d_out(row)};
-        RunSampledAnyOrder(SampleZoh(part, h, 0.0), r, r[0], z0, row == 0 ? out.y : out.u);
+        RunSampledAnyOrder(SampleZoh(part, period, 0.0), r, r[0], z0, row == 0 ? out.y : out.u);
       }
     } else {
       WalkHeld(a, b, c_out, d_out, 0.0, t, r, r[0], z0, {&out.y, &out.u});

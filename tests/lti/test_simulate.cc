@@ -274,3 +274,83 @@ TEST_CASE("Closed loop refuses an algebraic loop with direct gains multiplying t
   const std::vector<double> t{0.0, 0.1}, r{0.0, 1.0};
   CHECK_THROWS_AS(lw::SimulateClosedLoop(plant, lw::Controller(), 1.0, t, r), lw::UsageError);
 }
+
+TEST_CASE("A static gain with dead time is the shifted, scaled input") {
+  const lw::TransferFunction g({3.0}, {2.0}, 0.25);  // 1.5 exp(-0.25 s)
+  for (int pass = 0; pass < 2; ++pass) {
+    const std::vector<double> t = pass == 0 ? Grid(0.1, 40) : Jittered(0.1, 4.0, 2);
+    const std::vector<double> u = lw::InputSignal::Parse("step:1:2:0.5,step:2:-1:2").Sample(t);
+    const std::vector<double> y = lw::Simulate(g, t, u);
+    // y(t) = 1.5 u(t - 0.25) with u held: the last input sample at or before t - 0.25.
+    for (size_t i = 0; i < t.size(); ++i) {
+      double held = u[0];
+      for (size_t j = 0; j < t.size() && t[j] <= t[i] - 0.25 + 1e-12; ++j) held = u[j];
+      CHECK(y[i] == doctest::Approx(1.5 * held));
+    }
+  }
+}
+
+TEST_CASE("Closed loop starting at rest for r[0] stays there until r changes") {
+  // Type-0 P loop: y = K G(0) / (1 + K G(0)) r; integrating plant under PI: y = r, u = 0.
+  const std::vector<double> t = Grid(0.01, 400);
+  std::vector<double> r(t.size(), 1.5);
+  const lw::TransferFunction lag({2.0}, {0.3, 1.0}, 0.07);
+  const lw::ClosedLoopResponse p = lw::SimulateClosedLoop(lag, lw::Controller(), 0.8, t, r);
+  const lw::TransferFunction tank({0.5}, {1.0, 0.0}, 0.07);
+  const lw::ClosedLoopResponse pi =
+      lw::SimulateClosedLoop(tank, lw::Controller::Parse("pi:0.4"), 1.2, t, r);
+  for (size_t k = 0; k < t.size(); ++k) {
+    CHECK(p.y[k] == doctest::Approx(1.6 / 2.6 * 1.5).epsilon(1e-12));
+    CHECK(p.u[k] == doctest::Approx(0.8 * (1.5 - p.y[k])).epsilon(1e-12));
+    CHECK(pi.y[k] == doctest::Approx(1.5).epsilon(1e-12));
+    CHECK(pi.u[k] == doctest::Approx(0.0).scale(1.0).epsilon(1e-12));
+  }
+}
+
+TEST_CASE("Closed loop with dead time and a biproper plant vs a Padé [8/8] closed loop") {
+  // (0.5 s + 1) / (2 s + 1) e^{-0.2 s}: the direct gain 0.25 echoes every jump of u each T.
+  const lw::TransferFunction plant({0.5, 1.0}, {2.0, 1.0}, 0.2);
+  const lw::Controller ctrl = lw::Controller::Parse("pi:0.5");
+  const std::vector<double> t = Grid(0.01, 2001);
+  const std::vector<double> r = lw::InputSignal::Parse("step:0:1:0.5").Sample(t);
+  const lw::ClosedLoopResponse cl = lw::SimulateClosedLoop(plant, ctrl, 1.0, t, r);
+  // The step of r at 0.5 s makes u jump by K = 1; the plant passes 0.25 of it T later, so y
+  // jumps by 0.25 between 0.69 s and 0.70 s (plus the small smooth change over one sample).
+  CHECK(cl.y[70] - cl.y[69] == doctest::Approx(0.25).epsilon(0.05));
+  CHECK(std::abs(cl.y[69] - cl.y[68]) <= 0.01);
+  // A Padé approximant passes such a jump at once instead of T later, so the comparison starts
+  // at 2 s, seven round trips after the step (the echoes shrink by 0.25 each: 0.25^7 ~ 6e-5).
+  const lw::UnityFeedback loop(ctrl.WithGain(1.0) * plant);
+  const std::vector<double> yp = lw::Simulate(loop.WithPade(8), t, r);
+  const std::vector<double> late_cl(cl.y.begin() + 200, cl.y.end());
+  const std::vector<double> late_p(yp.begin() + 200, yp.end());
+  MESSAGE("biproper plant: Padé 8 max difference after 2 s " << MaxAbsDiff(late_cl, late_p));
+  CHECK(MaxAbsDiff(late_cl, late_p) <= 1e-4);
+  CHECK(cl.y.back() == doctest::Approx(1.0).epsilon(1e-4));
+}
+
+TEST_CASE("Closed loop with dead time: inserted grid points holding r change nothing") {
+  const lw::TransferFunction plant({1.1}, {0.6, 1.4, 1.0}, 0.083);
+  const lw::Controller ctrl = lw::Controller::Parse("pid:0.8:2.5:20");
+  const std::vector<double> t = Grid(0.02, 600);
+  const std::vector<double> r = lw::InputSignal::Parse("prbs:0:1:0.3").Sample(t, 4);
+  std::mt19937 rng(8);
+  std::uniform_real_distribution<double> frac(0.1, 0.9);
+  std::vector<double> tn, rn;
+  std::vector<size_t> shared;
+  for (size_t k = 0; k < t.size(); ++k) {
+    shared.push_back(tn.size());
+    tn.push_back(t[k]);
+    rn.push_back(r[k]);
+    if (k % 4 == 2 && k + 1 < t.size()) {
+      tn.push_back(t[k] + frac(rng) * 0.02);
+      rn.push_back(r[k]);
+    }
+  }
+  const lw::ClosedLoopResponse a = lw::SimulateClosedLoop(plant, ctrl, 0.7, t, r);
+  const lw::ClosedLoopResponse b = lw::SimulateClosedLoop(plant, ctrl, 0.7, tn, rn);
+  double worst = 0.0;
+  for (size_t k = 0; k < t.size(); ++k) worst = std::max(worst, std::abs(a.y[k] - b.y[shared[k]]));
+  MESSAGE("uniform vs non-uniform closed loop max difference " << worst);
+  CHECK(worst <= 1e-7);
+}
