@@ -46,6 +46,29 @@ std::vector<double> Jittered(double h, double end, unsigned seed) {
   return t;
 }
 
+// t (uniform, period h) with an extra time inside every `every`-th interval, holding the same
+// value, so the held signal is unchanged; shared[k] is the index of t[k] in the new grid.
+struct Refined {
+  std::vector<double> t, v;
+  std::vector<size_t> shared;
+};
+Refined InsertHeldPoints(const std::vector<double>& t, const std::vector<double>& v, double h,
+                         size_t every, unsigned seed) {
+  std::mt19937 rng(seed);
+  std::uniform_real_distribution<double> frac(0.05, 0.95);
+  Refined out;
+  for (size_t k = 0; k < t.size(); ++k) {
+    out.shared.push_back(out.t.size());
+    out.t.push_back(t[k]);
+    out.v.push_back(v[k]);
+    if (k % every == 1 && k + 1 < t.size()) {
+      out.t.push_back(t[k] + frac(rng) * h);
+      out.v.push_back(v[k]);
+    }
+  }
+  return out;
+}
+
 double MaxAbsDiff(const std::vector<double>& a, const std::vector<double>& b) {
   double m = 0.0;
   for (size_t i = 0; i < a.size(); ++i) m = std::max(m, std::abs(a[i] - b[i]));
@@ -111,23 +134,12 @@ TEST_CASE("A non-uniform grid gives the uniform result at the shared times") {
   const double h = 0.01;
   const std::vector<double> t = Grid(h, 800);
   const std::vector<double> u = lw::InputSignal::Parse("prbs:-1:2:0.07").Sample(t, 5);
-  std::mt19937 rng(3);
-  std::uniform_real_distribution<double> frac(0.05, 0.95);
-  std::vector<double> tn, un;
-  std::vector<size_t> shared;
-  for (size_t k = 0; k < t.size(); ++k) {
-    shared.push_back(tn.size());
-    tn.push_back(t[k]);
-    un.push_back(u[k]);
-    if (k % 3 == 1 && k + 1 < t.size()) {  // extra points holding the same input value
-      tn.push_back(t[k] + frac(rng) * h);
-      un.push_back(u[k]);
-    }
-  }
+  const Refined fine = InsertHeldPoints(t, u, h, 3, 3);
   const std::vector<double> y = lw::Simulate(g, t, u);
-  const std::vector<double> yn = lw::Simulate(g, tn, un);
+  const std::vector<double> yn = lw::Simulate(g, fine.t, fine.v);
   double worst = 0.0;
-  for (size_t k = 0; k < t.size(); ++k) worst = std::max(worst, std::abs(y[k] - yn[shared[k]]));
+  for (size_t k = 0; k < t.size(); ++k)
+    worst = std::max(worst, std::abs(y[k] - yn[fine.shared[k]]));
   CHECK(worst <= 1e-11);
 }
 
@@ -334,23 +346,12 @@ TEST_CASE("Closed loop with dead time: inserted grid points holding r change not
   const lw::Controller ctrl = lw::Controller::Parse("pid:0.8:2.5:20");
   const std::vector<double> t = Grid(0.02, 600);
   const std::vector<double> r = lw::InputSignal::Parse("prbs:0:1:0.3").Sample(t, 4);
-  std::mt19937 rng(8);
-  std::uniform_real_distribution<double> frac(0.1, 0.9);
-  std::vector<double> tn, rn;
-  std::vector<size_t> shared;
-  for (size_t k = 0; k < t.size(); ++k) {
-    shared.push_back(tn.size());
-    tn.push_back(t[k]);
-    rn.push_back(r[k]);
-    if (k % 4 == 2 && k + 1 < t.size()) {
-      tn.push_back(t[k] + frac(rng) * 0.02);
-      rn.push_back(r[k]);
-    }
-  }
+  const Refined fine = InsertHeldPoints(t, r, 0.02, 4, 8);
   const lw::ClosedLoopResponse a = lw::SimulateClosedLoop(plant, ctrl, 0.7, t, r);
-  const lw::ClosedLoopResponse b = lw::SimulateClosedLoop(plant, ctrl, 0.7, tn, rn);
+  const lw::ClosedLoopResponse b = lw::SimulateClosedLoop(plant, ctrl, 0.7, fine.t, fine.v);
   double worst = 0.0;
-  for (size_t k = 0; k < t.size(); ++k) worst = std::max(worst, std::abs(a.y[k] - b.y[shared[k]]));
+  for (size_t k = 0; k < t.size(); ++k)
+    worst = std::max(worst, std::abs(a.y[k] - b.y[fine.shared[k]]));
   MESSAGE("uniform vs non-uniform closed loop max difference " << worst);
   CHECK(worst <= 1e-7);
 }
