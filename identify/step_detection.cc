@@ -144,13 +144,16 @@ RecordingAnalysis AnalyseRecording(std::span<const double> t, std::span<const do
   const double moved = sxx > 0.0 ? std::abs(sxy / sxx) * (tt.back() - tt.front()) : 0.0;
   a.settled = moved <= 0.02 * std::abs(a.output_change) + 3.0 * a.output_noise_sd;
 
-  // Clipping: a flat run at an extreme while the record is otherwise noisy.
-  const auto [ymin, ymax] = std::minmax_element(y.begin(), y.end());
+  // Clipping: a flat run at an extreme, after the step, while the baseline is noisy (exact
+  // repeats are then no accident; noise-free data are never called clipped).
+  const double base_noise = first >= 3 ? DifferenceNoiseSd(y.first(first)) : a.output_noise_sd;
+  std::span<const double> ya = y.subspan(first), ta = t.subspan(first);
+  const auto [ymin, ymax] = std::minmax_element(ya.begin(), ya.end());
   size_t run_hi = 0, run_lo = 0;
   double from_hi = 0.0, from_lo = 0.0;
-  LongestRunAt(y, t, *ymax, run_hi, from_hi);
-  LongestRunAt(y, t, *ymin, run_lo, from_lo);
-  const bool noisy = a.output_noise_sd > 1e-9 * std::max(1.0, std::abs(*ymax - *ymin));
+  LongestRunAt(ya, ta, *ymax, run_hi, from_hi);
+  LongestRunAt(ya, ta, *ymin, run_lo, from_lo);
+  const bool noisy = base_noise > 1e-9 * std::max(1.0, std::abs(*ymax - *ymin));
   if (noisy && std::max(run_hi, run_lo) >= 3) {
     const bool hi = run_hi >= run_lo;
     a.clipped_samples = hi ? run_hi : run_lo;
@@ -160,7 +163,7 @@ RecordingAnalysis AnalyseRecording(std::span<const double> t, std::span<const do
   if (a.clipped_samples >= std::max<size_t>(5, n / 100)) {
     throw DataError("the output is clipped: it stays exactly at " + Num(a.clipped_level) + " for " +
                     std::to_string(a.clipped_samples) + " samples from t = " + Num(a.clipped_from) +
-                    " s while the rest of the record is noisy (sensor or converter saturated); "
+                    " s while the baseline is noisy (sensor or converter saturated); "
                     "record again within range or fit a --window before it");
   }
   return a;

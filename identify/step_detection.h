@@ -9,8 +9,8 @@
 //   baseline      means of u and y over the samples before the first step
 //   settled       over the last 20 % of the record the fitted straight line moves the output by
 //                 less than 2 % of the first step's change plus 3 noise sd (common practice)
-//   clipped       the output sits exactly at its maximum (or minimum) for a run of samples
-//                 while the rest of the record is noisy: the sensor or converter saturated
+//   clipped       after the step the output sits exactly at its maximum (or minimum) for a run
+//                 of samples while the baseline is noisy: the sensor or converter saturated
 #ifndef LOOPWRIGHT_IDENTIFY_STEP_DETECTION_H_
 #define LOOPWRIGHT_IDENTIFY_STEP_DETECTION_H_
 
