@@ -285,6 +285,28 @@ TEST_CASE("Closed loop refuses an algebraic loop with direct gains multiplying t
   const lw::TransferFunction plant({-1.0, 0.0}, {1.0, 1.0});  // direct gain -1
   const std::vector<double> t{0.0, 0.1}, r{0.0, 1.0};
   CHECK_THROWS_AS(lw::SimulateClosedLoop(plant, lw::Controller(), 1.0, t, r), lw::UsageError);
+  // A dead time far shorter than the record's sample period would need ~1e9 internal steps.
+  const std::vector<double> tl = Grid(0.01, 10000);
+  const std::vector<double> rl(tl.size(), 1.0);
+  CHECK_THROWS_AS(lw::SimulateClosedLoop(lw::TransferFunction({1.0}, {1.0, 1.0}, 1e-7),
+                                         lw::Controller(), 1.0, tl, rl),
+                  lw::UsageError);
+}
+
+TEST_CASE("Closed loop with zero gain leaves the plant alone") {
+  const lw::TransferFunction plant({1.0}, {1.0, 2.0, 1.0}, 0.05);
+  const std::vector<double> t = Grid(0.01, 200);
+  const std::vector<double> r(t.size(), 1.0);
+  lw::SimulateOptions zero;
+  zero.initial = lw::SimulateOptions::Initial::kZero;
+  for (const char* spec : {"p", "pi:0.5", "pid:1:2:10"}) {
+    const lw::ClosedLoopResponse cl =
+        lw::SimulateClosedLoop(plant, lw::Controller::Parse(spec), 0.0, t, r, zero);
+    for (size_t k = 0; k < t.size(); ++k) {
+      CHECK(cl.y[k] == 0.0);
+      CHECK(cl.u[k] == 0.0);
+    }
+  }
 }
 
 TEST_CASE("A static gain with dead time is the shifted, scaled input") {
