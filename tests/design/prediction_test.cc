@@ -1,0 +1,58 @@
+// Prediction at one gain against second-order closed forms (Franklin, Powell & Emami-Naeini,
+// Feedback Control of Dynamic Systems, ch. 3; from memory) for a plant of our own.
+#include <cmath>
+#include <numbers>
+
+#include <doctest/doctest.h>
+
+#include "design/prediction.h"
+
+namespace lw {
+namespace {
+
+TEST_CASE("P control of 2/((s+1)(0.5 s+1)) at K = 3: a pure second-order closed loop") {
+  // (s+1)(0.5 s+1) + 6 = 0  <=>  s^2 + 3 s + 14 = 0: wn = sqrt(14), zeta = 3 / (2 sqrt(14)).
+  TransferFunction plant(Polynomial({2.0}), Polynomial({1.0, 1.0}) * Polynomial({0.5, 1.0}));
+  PredictionOptions o;
+  o.samples = 6000;
+  o.actuator_lo = -2.0;
+  o.actuator_hi = 2.0;
+  Prediction p = Predict(plant, Controller(), 3.0, o);
+  const double wn = std::sqrt(14.0), zeta = 3.0 / (2.0 * std::sqrt(14.0));
+  CHECK(p.stable);
+  CHECK(p.pade_order == 0);
+  CHECK(p.dominant_shape.wn == doctest::Approx(wn).epsilon(1e-12));
+  CHECK(p.dominant_shape.zeta == doctest::Approx(zeta).epsilon(1e-12));
+  // Steady-state error 1 / (1 + K G(0)) = 1/7, exact and simulated.
+  CHECK(p.steady_state_error == doctest::Approx(1.0 / 7.0).epsilon(1e-12));
+  // (the automatic record ends at 12 / sigma: the transient is down to about exp(-12) there)
+  CHECK(p.metrics.steady_state_error == doctest::Approx(1.0 / 7.0).epsilon(1e-4));
+  // Overshoot and peak time of a second-order pair without zeros.
+  double mp = 100.0 * std::exp(-std::numbers::pi * zeta / std::sqrt(1 - zeta * zeta));
+  CHECK(p.metrics.overshoot_percent == doctest::Approx(mp).epsilon(2e-3));
+  double wd = wn * std::sqrt(1 - zeta * zeta);
+  CHECK(p.metrics.peak_time == doctest::Approx(std::numbers::pi / wd).epsilon(2e-3));
+  // u(0+) = K (r - y(0)) = 3 is the peak: beyond the limit 2.
+  CHECK(p.metrics.peak_actuator == doctest::Approx(3.0).epsilon(1e-9));
+  CHECK(p.actuator_exceeded);
+  CHECK(p.actuator_warning.find("upper limit 2") != std::string::npos);
+  // Margins: the loop 6/((s+1)(0.5s+1)) never reaches -180 degrees.
+  CHECK(std::isinf(p.margins.gain_margin));
+  CHECK(p.margins.phase_margin_deg > 0.0);
+}
+
+TEST_CASE("an integrating loop has zero steady-state error; dead time reported through Padé") {
+  TransferFunction plant(Polynomial({0.8}), Polynomial({1.0, 0.0}) * Polynomial({1.5, 1.0}), 0.2);
+  PredictionOptions o;
+  o.pade_order = 4;
+  Prediction p = Predict(plant, Controller(), 0.5, o);
+  CHECK(p.stable);
+  CHECK(p.pade_order == 4);
+  CHECK(p.steady_state_error == 0.0);
+  CHECK(std::abs(p.metrics.steady_state_error) < 1e-4);
+  CHECK(std::isfinite(p.margins.gain_margin));
+  CHECK_FALSE(p.actuator_exceeded);
+}
+
+}  // namespace
+}  // namespace lw
