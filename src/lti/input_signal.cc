@@ -136,7 +136,7 @@ std::vector<double> InputSignal::Sample(std::span<const double> t, uint64_t seed
     return v;
   }
   for (size_t i = 0; i < t.size(); ++i) {
-    double level = steps_.front().from;
+    double level = initial_level();
     for (const Step& st : steps_) {
       if (t[i] >= st.at - 1e-12 * std::max(1.0, std::abs(st.at))) level = st.to;
     }
@@ -156,7 +156,7 @@ std::vector<double> InputSignal::StepTimes() const {
 double InputSignal::initial_level() const {
   switch (kind_) {
     case Kind::kSteps:
-      return steps_.front().from;
+      return steps_.empty() ? 0.0 : steps_.front().from;
     case Kind::kPrbs:
       return lo_;
     case Kind::kCsv:

@@ -32,6 +32,8 @@ class InputSignal {
  public:
   enum class Kind { kSteps, kPrbs, kCsv };
 
+  // A default-constructed signal is the constant 0 (no steps).
+  InputSignal() = default;
   // Throws UsageError naming the spec and what was expected.
   static InputSignal Parse(std::string_view spec);
 

@@ -82,3 +82,11 @@ TEST_CASE("UniformGrid covers [0, duration] at k / rate") {
   CHECK_THROWS_AS(lw::UniformGrid(10.0, -1.0), lw::UsageError);
   CHECK_THROWS_AS(lw::UniformGrid(NAN, 1.0), lw::UsageError);
 }
+
+TEST_CASE("A default-constructed signal is the constant 0") {
+  const lw::InputSignal s;
+  const std::vector<double> t{0.0, 1.0, 2.0};
+  CHECK(s.Sample(t) == std::vector<double>{0.0, 0.0, 0.0});
+  CHECK(s.initial_level() == 0.0);
+  CHECK(s.StepTimes().empty());
+}
