@@ -287,10 +287,16 @@ TEST_CASE("Closed loop refuses an algebraic loop with direct gains multiplying t
   CHECK_THROWS_AS(lw::SimulateClosedLoop(plant, lw::Controller(), 1.0, t, r), lw::UsageError);
   // A dead time far shorter than the record's sample period would need ~1e9 internal steps.
   const std::vector<double> tl = Grid(0.01, 10000);
-  const std::vector<double> rl(tl.size(), 1.0);
+  const std::vector<double> rl = lw::InputSignal::Parse("step:0:1:0.1").Sample(tl);
   CHECK_THROWS_AS(lw::SimulateClosedLoop(lw::TransferFunction({1.0}, {1.0, 1.0}, 1e-7),
                                          lw::Controller(), 1.0, tl, rl),
                   lw::UsageError);
+  // Below 1e-9 of the sample interval the dead time is negligible and treated as zero.
+  const lw::ClosedLoopResponse tiny = lw::SimulateClosedLoop(
+      lw::TransferFunction({1.0}, {1.0, 1.0}, 1e-12), lw::Controller(), 1.0, tl, rl);
+  const lw::ClosedLoopResponse none = lw::SimulateClosedLoop(
+      lw::TransferFunction({1.0}, {1.0, 1.0}), lw::Controller(), 1.0, tl, rl);
+  CHECK(tiny.y == none.y);
 }
 
 TEST_CASE("Closed loop with zero gain leaves the plant alone") {
