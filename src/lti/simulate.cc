@@ -5,36 +5,36 @@
 // with the split-interval ZOH of zoh.h and run as a recursion; on any other grid the state is
 // carried from t[i] to t[i+1] through the sub-intervals where the delayed input u(t - T) is
 // constant (it switches at t[j] + T), each with the exact hold blocks of that sub-interval's
-// length, cached by length rounded to about 1e-12 relative. Switch times within 1e-9 of an
-// interval of a sample time are taken as that sample time.
+// length (HoldCache, to 1e-12 of the longest interval). A switch within 1e-9 of the interval
+// length of a sample time is taken as falling on that sample time.
 //
 // Closed loop without dead time: the loop is rational, so the closed loop from r to (y, u) is
 // realised as one state-space model and simulated exactly like the open loop. A dead time
 // shorter than 1e-9 of the shortest sample interval is treated as zero: delaying a response by T
 // changes it by at most T |y'|, below 1e-9 of what it changes over one sample (to first order).
 //
-// Closed loop with dead time T > 0. The plant and controller states z = [x_p; x_c] obey
-//   z' = A z + B_r r + B_w w,   w(t) = u(t - T),   u = C_u z + D_ur r + D_uw w,   y = C_y z + D_y
-//   w,
-// where w is the delayed actuator signal. Between samples the loop is advanced by internal
-// steps of length h_i no longer than the sample interval, T, or a tenth of the fastest time
-// constant among the plant poles, controller poles and delay-free closed-loop poles. Because
-// h_i <= T, the w a step needs lies in the already computed past: it is a history of u stored
-// as one cubic polynomial per internal step, interpolating u at four equally spaced nodes of
-// the step. Each step is split where the delayed history changes piece, and on each part z is
-// advanced exactly for the polynomial w (Van Loan block exponential, zoh.h). The only
-// approximation is the cubic interpolation of u within each step (local error O(h_i^4)); r is
-// held, and every internal step boundary falls on the sample times where r switches.
+// Closed loop with dead time T > 0 (delayed_loop.h). With the plant and controller states
+// z = [x_p; x_c] and the delayed actuator signal w(t) = u(t - T),
+//   z' = A z + B_r r + B_w w,   u = C_u z + D_ur r + D_uw w,   y = C_y z + D_y w.
+// Between samples the loop is advanced by internal steps h_i no longer than the sample interval,
+// T, or a tenth of the fastest time constant among the plant poles, controller poles and
+// delay-free closed-loop poles. Because h_i <= T, the w a step needs lies in the already computed
+// past: a history of u stored as one cubic per internal step, interpolating u at four equally
+// spaced nodes of the step. Each step is split where the delayed history changes piece, and on
+// each part z is advanced exactly for the polynomial w (Van Loan block exponential, zoh.h).
+// Steps are also split where a non-smooth point of u (a sample time, where r switches, and its
+// first echoes T, 2T later) comes back through the delay, so no cubic straddles a kink. The only
+// approximation is the cubic interpolation of u within smooth stretches (local error O(h_i^4));
+// r is held, and every internal step boundary falls on the sample times where r switches.
 #include "lti/simulate.h"
 
-#include <array>
 #include <cmath>
 #include <limits>
 #include <string>
-#include <unordered_map>
 
 #include <Eigen/Dense>
 
+#include "lti/delayed_loop.h"
 #include "lti/error.h"
 #include "lti/state_space.h"
 #include "lti/zoh.h"
@@ -98,28 +98,6 @@ double CheckGrid(std::span<const double> t, std::span<const double> v, const cha
   }
   return h;
 }
-
-// Hold blocks cached by interval length, rounded to `resolution` times the longest length that
-// will be asked for (`scale`). Lengths are differences of absolute times, which carry rounding
-// of order 1e-16 |t|; rounding against the scale rather than the length itself lets a long
-// record at a fixed rate reuse a handful of entries.
-class HoldCache {
- public:
-  HoldCache(MatrixXd a, MatrixXd b, int degree, double scale, double resolution)
-      : a_(std::move(a)), b_(std::move(b)), degree_(degree), unit_(scale * resolution) {}
-  const HoldBlocks& Get(double length) {
-    const auto key = static_cast<int64_t>(std::llround(length / unit_));
-    auto it = map_.find(key);
-    if (it == map_.end()) it = map_.emplace(key, ExactHold(a_, b_, length, degree_)).first;
-    return it->second;
-  }
-
- private:
-  MatrixXd a_, b_;
-  int degree_;
-  double unit_;
-  std::unordered_map<int64_t, HoldBlocks> map_;
-};
 
 double LongestInterval(std::span<const double> t) {
   double longest = 0.0;
@@ -203,63 +181,6 @@ void WalkHeld(const MatrixXd& a, const VectorXd& b, const MatrixXd& c_out, const
   }
 }
 
-// The closed loop split as in the header comment: z' = A z + B [r; w].
-struct LoopModel {
-  MatrixXd a, b;  // b: nz x 2, columns r and w
-  RowVectorXd cu, cy;
-  double dur = 0.0, duw = 0.0, dy = 0.0;
-};
-
-LoopModel BuildLoop(const StateSpace& p, const StateSpace& c) {
-  const int np = p.order(), nc = c.order(), nz = np + nc;
-  LoopModel m;
-  m.a = MatrixXd::Zero(nz, nz);
-  m.a.topLeftCorner(np, np) = p.a;
-  m.a.block(np, 0, nc, np) = -c.b * p.c;
-  m.a.bottomRightCorner(nc, nc) = c.a;
-  m.b = MatrixXd::Zero(nz, 2);
-  m.b.block(np, 0, nc, 1) = c.b;
-  m.b.block(0, 1, np, 1) = p.b;
-  m.b.block(np, 1, nc, 1) = -c.b * p.d;
-  m.cu = RowVectorXd::Zero(nz);
-  m.cu.head(np) = -c.d * p.c;
-  m.cu.tail(nc) = c.c;
-  m.dur = c.d;
-  m.duw = -c.d * p.d;
-  m.cy = RowVectorXd::Zero(nz);
-  m.cy.head(np) = p.c;
-  m.dy = p.d;
-  return m;
-}
-
-// u(t) on [start, end): sum_k coef[k] (t - start)^k.
-constexpr int kPieceDegree = 3;
-// u may be non-smooth where a piece starts: generation 0 at a sample time (r switches),
-// g + 1 where the delayed image of a generation-g start reaches the loop again; kSmooth inside.
-constexpr int kSmooth = 1 << 20;
-struct HistoryPiece {
-  double start, end;
-  std::array<double, kPieceDegree + 1> coef;
-  int generation;
-};
-
-// Coefficients of q(s) = p(delta + s).
-std::array<double, kPieceDegree + 1> Shift(const std::array<double, kPieceDegree + 1>& p,
-                                           double delta) {
-  std::array<double, kPieceDegree + 1> q = p;
-  // Repeated synthetic division (Taylor shift).
-  for (int i = 0; i < kPieceDegree; ++i) {
-    for (int k = kPieceDegree - 1; k >= i; --k) q[k] += delta * q[k + 1];
-  }
-  return q;
-}
-
-double Eval(const std::array<double, kPieceDegree + 1>& p, double s) {
-  double v = 0.0;
-  for (int k = kPieceDegree; k >= 0; --k) v = v * s + p[k];
-  return v;
-}
-
 double FastestRate(const TransferFunction& plant, const TransferFunction& ctrl) {
   double rate = 0.0;
   const Polynomial loop = plant.den() * ctrl.den() + plant.num() * ctrl.num();
@@ -268,116 +189,6 @@ double FastestRate(const TransferFunction& plant, const TransferFunction& ctrl) 
   }
   return rate;
 }
-
-class DelayedLoop {
- public:
-  // max_step: the longest internal step; segment lengths are cached to 1e-9 of it (the
-  // interpolation of u, O(h^4), dominates that).
-  DelayedLoop(const LoopModel& m, double delay, double before, double t0, double max_step)
-      : m_(m), delay_(delay), cache_(m.a, m.b, kPieceDegree, max_step, 1e-9) {
-    pieces_.push_back({t0 - delay, t0, {before, 0.0, 0.0, 0.0}, kSmooth});
-    // Inverse Vandermonde matrix of the nodes 0, 1/3, 2/3, 1.
-    Eigen::Matrix4d v;
-    for (int i = 0; i < 4; ++i) {
-      for (int k = 0; k < 4; ++k) v(i, k) = std::pow(i / 3.0, k);
-    }
-    vinv_ = v.inverse();
-  }
-
-  // w(s+) for s the start of the next step.
-  double WRight(double s, double tol) {
-    while (cursor_ + 1 < pieces_.size() && s - delay_ >= pieces_[cursor_].end - tol) ++cursor_;
-    const HistoryPiece& p = pieces_[cursor_];
-    return Eval(p.coef, s - delay_ - p.start);
-  }
-
-  double U(const VectorXd& z, double r, double w) const {
-    return m_.cu.dot(z) + m_.dur * r + m_.duw * w;
-  }
-  double Y(const VectorXd& z, double w) const { return m_.cy.dot(z) + m_.dy * w; }
-
-  // One internal step [a, b] from state z (at a, with u(a+) = u0). The step is split where
-  // the delayed history has a non-smooth point of generation below max_generation_, so that
-  // no stored cubic straddles a kink (or, through a direct plant gain, a jump) of u.
-  void Step(VectorXd& z, double a, double b, double r, double u0, int generation) {
-    const double tol = 1e-10 * (b - a);
-    splits_.clear();
-    for (size_t i = cursor_; i < pieces_.size() && pieces_[i].start + delay_ < b - tol; ++i) {
-      const double at = pieces_[i].start + delay_;
-      if (at > a + tol && pieces_[i].generation + 1 < max_generation_) {
-        splits_.push_back({at, pieces_[i].generation + 1});
-      }
-    }
-    double start = a;
-    for (size_t i = 0; i <= splits_.size(); ++i) {
-      const double end = i < splits_.size() ? splits_[i].first : b;
-      if (i > 0) {
-        generation = splits_[i - 1].second;
-        u0 = U(z, r, WRight(start, tol));
-      }
-      StoreStep(z, start, end, r, u0, generation);
-      start = end;
-    }
-  }
-
-  // Splits are kept below this generation: 3 for a strictly proper plant (each round trip
-  // smooths u by at least one derivative), 8 when the plant has a direct gain.
-  void set_max_generation(int g) { max_generation_ = g; }
-
-  // Advances z over [a, b] and stores u there as the cubic through four equally spaced nodes.
-  void StoreStep(VectorXd& z, double a, double b, double r, double u0, int generation) {
-    const double len = b - a, tol = 1e-10 * len;
-    std::array<double, 4> nodes{u0, 0.0, 0.0, 0.0};
-    double now = a;
-    for (int i = 1; i <= 3; ++i) {
-      const double target = i == 3 ? b : a + len * i / 3.0;
-      double w_left = 0.0;
-      while (now < target - tol) {
-        while (cursor_ + 1 < pieces_.size() && now - delay_ >= pieces_[cursor_].end - tol) {
-          ++cursor_;
-        }
-        const HistoryPiece& p = pieces_[cursor_];
-        double seg_end = std::min(target, p.end + delay_);
-        // The newest piece may be extrapolated by rounding (a step a hair longer than T).
-        if (seg_end > target - tol || cursor_ + 1 == pieces_.size()) seg_end = target;
-        const auto w = Shift(p.coef, now - delay_ - p.start);
-        const double l = seg_end - now;
-        const HoldBlocks& hb = cache_.Get(l);
-        next_.resize(z.size());  // a member buffer: no allocation per segment
-        next_.noalias() = hb.phi * z;
-        next_ += hb.gamma[0].col(0) * r;
-        for (int k = 0; k <= kPieceDegree; ++k) next_ += hb.gamma[k].col(1) * w[k];
-        z.swap(next_);
-        w_left = Eval(w, l);
-        now = seg_end;
-      }
-      nodes[i] = U(z, r, w_left);
-    }
-    Eigen::Vector4d c = vinv_ * Eigen::Map<const Eigen::Vector4d>(nodes.data());
-    HistoryPiece piece{a, b, {}, generation};
-    double scale = 1.0;
-    for (int k = 0; k < 4; ++k) {
-      piece.coef[k] = c(k) / scale;
-      scale *= len;
-    }
-    pieces_.push_back(piece);
-    if (cursor_ > 4096) {
-      pieces_.erase(pieces_.begin(), pieces_.begin() + static_cast<long>(cursor_));
-      cursor_ = 0;
-    }
-  }
-
- private:
-  const LoopModel& m_;
-  double delay_;
-  HoldCache cache_;
-  std::vector<HistoryPiece> pieces_;
-  size_t cursor_ = 0;
-  Eigen::Matrix4d vinv_;
-  int max_generation_ = 3;
-  std::vector<std::pair<double, int>> splits_;
-  VectorXd next_;
-};
 
 }  // namespace
 
@@ -473,8 +284,7 @@ ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Contr
                      "shorten the record or simulate the delay-free loop");
   }
 
-  DelayedLoop loop(m, delay, u_before, t[0], max_step);
-  loop.set_max_generation(m.dy != 0.0 ? 8 : 3);
+  DelayedLoop loop(m, delay, u_before, t[0], max_step, m.dy != 0.0 ? 8 : 3);
   VectorXd z = z0;
   const size_t n = t.size();
   for (size_t k = 0; k < n; ++k) {
@@ -490,7 +300,7 @@ ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Contr
       const double a = t[k] + h * static_cast<double>(j) / static_cast<double>(q);
       const double b = j + 1 == q ? t[k + 1] : t[k] + h * static_cast<double>(j + 1) / q;
       if (j > 0) u0 = loop.U(z, r[k], loop.WRight(a, 1e-10 * (b - a)));
-      loop.Step(z, a, b, r[k], u0, j == 0 ? 0 : kSmooth);
+      loop.Step(z, a, b, r[k], u0, j == 0 ? 0 : DelayedLoop::kSmooth);
     }
   }
   return out;

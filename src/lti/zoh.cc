@@ -2,6 +2,7 @@
 
 #include <cmath>
 #include <string>
+#include <utility>
 
 #include <unsupported/Eigen/MatrixFunctions>
 
@@ -36,6 +37,17 @@ HoldBlocks ExactHold(const Eigen::MatrixXd& a, const Eigen::MatrixXd& b, double 
     out.gamma.push_back(e.block(0, n + k * m, n, m) * factorial);
   }
   return out;
+}
+
+HoldCache::HoldCache(Eigen::MatrixXd a, Eigen::MatrixXd b, int degree, double scale,
+                     double resolution)
+    : a_(std::move(a)), b_(std::move(b)), degree_(degree), unit_(scale * resolution) {}
+
+const HoldBlocks& HoldCache::Get(double length) {
+  const auto key = static_cast<int64_t>(std::llround(length / unit_));
+  auto it = map_.find(key);
+  if (it == map_.end()) it = map_.emplace(key, ExactHold(a_, b_, length, degree_)).first;
+  return it->second;
 }
 
 SampledStateSpace SampleZoh(const StateSpace& ss, double period, double delay) {

@@ -25,6 +25,8 @@
 #ifndef LOOPWRIGHT_LTI_ZOH_H_
 #define LOOPWRIGHT_LTI_ZOH_H_
 
+#include <cstdint>
+#include <unordered_map>
 #include <vector>
 
 #include <Eigen/Dense>
@@ -42,6 +44,23 @@ struct HoldBlocks {
 // Throws UsageError on a negative or non-finite length or a negative degree.
 HoldBlocks ExactHold(const Eigen::MatrixXd& a, const Eigen::MatrixXd& b, double length,
                      int degree = 0);
+
+// ExactHold blocks cached by interval length, rounded to `resolution` times the longest length
+// that will be asked for (`scale`): a length within that of a cached one reuses its blocks.
+// Lengths are differences of absolute times, which carry rounding of order 1e-16 |t|; rounding
+// against the scale rather than the length itself lets a long record at a fixed rate reuse a
+// handful of entries.
+class HoldCache {
+ public:
+  HoldCache(Eigen::MatrixXd a, Eigen::MatrixXd b, int degree, double scale, double resolution);
+  const HoldBlocks& Get(double length);
+
+ private:
+  Eigen::MatrixXd a_, b_;
+  int degree_;
+  double unit_;
+  std::unordered_map<int64_t, HoldBlocks> map_;
+};
 
 // A state-space model sampled with a zero-order hold and a dead time (equations above).
 struct SampledStateSpace {
