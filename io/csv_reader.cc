@@ -153,6 +153,9 @@ class Parser {
     bool all_numbers = true;
     for (size_t c = 0; c < names.size(); ++c) {
       if (names[c].empty()) Fail(c + 1, "empty column name in the header row");
+      if (std::any_of(names[c].begin(), names[c].end(),
+                      [](char ch) { return static_cast<unsigned char>(ch) < 0x20 || ch == 0x7f; }))
+        Fail(c + 1, "column name " + Quote(names[c]) + " contains a control character");
       for (size_t k = 0; k < c; ++k)
         if (names[k] == names[c])
           Fail(c + 1, "column name " + Quote(names[c]) + " is also the name of column " +

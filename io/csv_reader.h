@@ -7,8 +7,8 @@
 //   - Blank lines (nothing but spaces and tabs) are skipped anywhere.
 //   - The first other line is the header row naming the columns. A name may be quoted with
 //     double quotes (then it may contain the delimiter; "" stands for one quote). Names are
-//     trimmed of surrounding blanks; an empty or repeated name, or a header of nothing but
-//     numbers (a file without a header row), is an error.
+//     trimmed of surrounding blanks; an empty or repeated name, a name holding a control
+//     character, or a header of nothing but numbers (a file without a header row), is an error.
 //   - Every following line is one row with exactly as many cells as the header has names. A cell
 //     is a decimal number as std::from_chars reads it (1, -2.5, .5, 3e-4, with an optional leading
 //     '+'), possibly surrounded by blanks or double quotes. NaN and infinity are rejected.

@@ -115,6 +115,8 @@ TEST_CASE("Error messages name file, line and column") {
   CHECK(ParseError("t,,y\n") == "run.csv, line 1, column 2: empty column name in the header row");
   CHECK(ParseError("t,y,t\n") ==
         "run.csv, line 1, column 3: column name 't' is also the name of column 1");
+  CHECK(ParseError("t,a\rb\n") ==
+        "run.csv, line 1, column 2: column name 'a?b' contains a control character");
   CHECK(ParseError("\"t,y\n") == "run.csv, line 1, column 1: unterminated quote in the header row");
   CHECK(ParseError("t,y\n\"1,2\n") == "run.csv, line 2, column 1: unterminated quote");
 }
