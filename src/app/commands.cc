@@ -6,11 +6,17 @@
 namespace lw::app {
 
 std::unique_ptr<Command> MakeSimulateCommand();
+std::unique_ptr<Command> MakeFitCommand();
+std::unique_ptr<Command> MakeBandCommand();
 
 const std::vector<CommandEntry>& CommandTable() {
   static const std::vector<CommandEntry> table = {
       {"simulate", "Simulate a model's response to an input (open or closed loop) into a CSV",
        MakeSimulateCommand},
+      {"fit", "Identify a low-order plant model with dead time from a step-test recording",
+       MakeFitCommand},
+      {"band", "Find every controller gain that meets response specs (locus, response, robust)",
+       MakeBandCommand},
   };
   return table;
 }
