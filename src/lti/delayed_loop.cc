@@ -72,27 +72,77 @@ double DelayedLoop::WRight(double s, double tol) {
 void DelayedLoop::Step(Eigen::VectorXd& z, double a, double b, double r, double u0,
                        int generation) {
   const double tol = 1e-10 * (b - a);
-  splits_.clear();
-  for (size_t i = cursor_; i < pieces_.size() && pieces_[i].start + delay_ < b - tol; ++i) {
-    const double at = pieces_[i].start + delay_;
-    if (at > a + tol && pieces_[i].generation + 1 < max_generation_) {
-      splits_.push_back({at, pieces_[i].generation + 1});
-    }
-  }
   double start = a;
-  for (size_t i = 0; i <= splits_.size(); ++i) {
-    const double end = i < splits_.size() ? splits_[i].first : b;
-    if (i > 0) {
-      generation = splits_[i - 1].second;
-      u0 = U(z, r, WRight(start, tol));
+  while (start < b - tol) {
+    // The next non-smooth point to come back through the delay: an echo of a stored piece's
+    // start, or of the piece about to start here.
+    double end = b;
+    int end_generation = kSmooth;
+    if (generation + 1 < max_generation_ && start + delay_ < end - tol) {
+      end = start + delay_;
+      end_generation = generation + 1;
     }
-    StoreStep(z, start, end, r, u0, generation);
+    for (size_t i = cursor_; i < pieces_.size() && pieces_[i].start + delay_ < end - tol; ++i) {
+      const double at = pieces_[i].start + delay_;
+      if (at > start + tol && pieces_[i].generation + 1 < max_generation_) {
+        end = at;
+        end_generation = pieces_[i].generation + 1;
+      }
+    }
+    if (end - start <= delay_ * (1.0 + 1e-9)) {
+      Append(start, end, Integrate(z, start, end, r, u0), generation);
+    } else if (!Implicit(z, start, end, r, u0, generation)) {
+      end = start + delay_;  // did not converge: explicit steps of T instead
+      end_generation = kSmooth;
+      Append(start, end, Integrate(z, start, end, r, u0), generation);
+    }
     start = end;
+    generation = end_generation;
+    if (start < b - tol) u0 = U(z, r, WRight(start, tol));
   }
 }
 
-void DelayedLoop::StoreStep(Eigen::VectorXd& z, double a, double b, double r, double u0,
-                            int generation) {
+bool DelayedLoop::Implicit(Eigen::VectorXd& z, double a, double b, double r, double u0,
+                           int generation) {
+  const Eigen::VectorXd z0 = z;
+  const size_t cursor0 = cursor_;
+  const double len = b - a;
+  // First guess: the previous piece continued, through u0.
+  const Piece& last = pieces_.back();
+  Cubic guess = Shift(last.coef, a - last.start);
+  guess[0] = u0;
+  pieces_.push_back({a, b, guess, generation});
+  std::array<double, 4> previous;
+  for (int i = 0; i < 4; ++i) previous[i] = Eval(guess, len * i / 3.0);
+  double first_change = 0.0;
+  for (int iteration = 0; iteration < 60; ++iteration) {
+    z = z0;
+    cursor_ = cursor0;
+    const std::array<double, 4> nodes = Integrate(z, a, b, r, u0);
+    pieces_.back().coef = Fit(nodes, len);
+    double change = 0.0, size = 0.0;
+    for (int i = 0; i < 4; ++i) {
+      change = std::max(change, std::abs(nodes[i] - previous[i]));
+      size = std::max(size, std::abs(nodes[i]));
+    }
+    previous = nodes;
+    if (change <= 1e-14 * size || change == 0.0) {
+      const Piece done = pieces_.back();
+      pieces_.pop_back();
+      Append(a, b, nodes, done.generation);
+      return true;
+    }
+    if (iteration == 0) first_change = change;
+    if (!std::isfinite(change) || (iteration > 2 && change > first_change)) break;
+  }
+  pieces_.pop_back();
+  z = z0;
+  cursor_ = cursor0;
+  return false;
+}
+
+std::array<double, 4> DelayedLoop::Integrate(Eigen::VectorXd& z, double a, double b, double r,
+                                             double u0) {
   const double len = b - a, tol = 1e-10 * len;
   std::array<double, 4> nodes{u0, 0.0, 0.0, 0.0};
   double now = a;
@@ -120,14 +170,22 @@ void DelayedLoop::StoreStep(Eigen::VectorXd& z, double a, double b, double r, do
     }
     nodes[i] = U(z, r, w_left);
   }
+  return nodes;
+}
+
+DelayedLoop::Cubic DelayedLoop::Fit(const std::array<double, 4>& nodes, double len) const {
   const Eigen::Vector4d c = vinv_ * Eigen::Map<const Eigen::Vector4d>(nodes.data());
-  Piece piece{a, b, {}, generation};
+  Cubic coef;
   double scale = 1.0;
   for (int k = 0; k < 4; ++k) {
-    piece.coef[k] = c(k) / scale;
+    coef[k] = c(k) / scale;
     scale *= len;
   }
-  pieces_.push_back(piece);
+  return coef;
+}
+
+void DelayedLoop::Append(double a, double b, const std::array<double, 4>& nodes, int generation) {
+  pieces_.push_back({a, b, Fit(nodes, b - a), generation});
   if (cursor_ > 4096) {  // drop the history the delay can no longer reach
     pieces_.erase(pieces_.begin(), pieces_.begin() + static_cast<long>(cursor_));
     cursor_ = 0;

@@ -30,8 +30,8 @@ LoopModel BuildLoop(const StateSpace& plant, const StateSpace& controller);
 
 class DelayedLoop {
  public:
-  // u(t) = before for t < t0. max_step: the longest internal step, at most the delay; segment
-  // lengths are cached to 1e-9 of it (the interpolation of u, O(h^4), dominates that).
+  // u(t) = before for t < t0. max_step: the longest internal step; segment lengths are cached
+  // to 1e-9 of it (the interpolation of u, O(h^4), dominates that).
   // max_generation: see Step(); 3 suits a strictly proper plant (each round trip smooths u by at
   // least one derivative), 8 a plant with a direct gain.
   DelayedLoop(const LoopModel& m, double delay, double before, double t0, double max_step,
@@ -44,11 +44,14 @@ class DelayedLoop {
   }
   double Y(const Eigen::VectorXd& z, double w) const { return m_.cy.dot(z) + m_.dy * w; }
 
-  // One internal step [a, b] (b - a <= delay) from state z at a, with u(a+) = u0 and r held;
-  // generation 0 when a is a sample time (r may switch there), kSmooth otherwise. The step is
-  // split where the delayed history has a non-smooth point of generation below
-  // max_generation, so that no stored cubic straddles a kink (or, through a direct plant gain, a
-  // jump) of u.
+  // One internal step [a, b] from state z at a, with u(a+) = u0 and r held; generation 0 when
+  // a is a sample time (r may switch there), kSmooth otherwise. The step is split where a
+  // non-smooth point of u of generation below max_generation comes back through the delay, so
+  // that no stored cubic straddles a kink (or, through a direct plant gain, a jump) of u. A part
+  // no longer than T only needs history already stored (explicit). A longer part also needs its
+  // own u: its cubic is found by fixed-point iteration (start: the previous cubic continued),
+  // to 1e-14 relative at the nodes; when that does not converge the part is taken in explicit
+  // steps of T.
   void Step(Eigen::VectorXd& z, double a, double b, double r, double u0, int generation);
 
   static constexpr int kSmooth = 1 << 20;
@@ -64,8 +67,15 @@ class DelayedLoop {
     int generation;
   };
 
-  // Advances z over [a, b] and stores u there as the cubic through four equally spaced nodes.
-  void StoreStep(Eigen::VectorXd& z, double a, double b, double r, double u0, int generation);
+  // Advances z over [a, b] (reading w from the stored history) and returns u at the four
+  // equally spaced nodes a, a + L/3, a + 2L/3, b-.
+  std::array<double, 4> Integrate(Eigen::VectorXd& z, double a, double b, double r, double u0);
+  // The cubic through the nodes of a step of length len.
+  Cubic Fit(const std::array<double, 4>& nodes, double len) const;
+  // Stores u on [a, b) and drops history the delay can no longer reach.
+  void Append(double a, double b, const std::array<double, 4>& nodes, int generation);
+  // The fixed-point solve for a part longer than T; false (state restored) when it diverges.
+  bool Implicit(Eigen::VectorXd& z, double a, double b, double r, double u0, int generation);
 
   const LoopModel& m_;
   double delay_;

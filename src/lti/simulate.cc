@@ -272,7 +272,8 @@ ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Contr
     return out;
   }
 
-  double max_step = delay;
+  // Internal steps may be longer than T (delayed_loop.h solves those implicitly).
+  double max_step = LongestInterval(t);
   const double rate = FastestRate(plant, ctrl);
   if (rate > 0.0) max_step = std::min(max_step, 0.1 / rate);
   double steps = 0.0;
@@ -300,7 +301,9 @@ ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Contr
       const double a = t[k] + h * static_cast<double>(j) / static_cast<double>(q);
       const double b = j + 1 == q ? t[k + 1] : t[k] + h * static_cast<double>(j + 1) / q;
       if (j > 0) u0 = loop.U(z, r[k], loop.WRight(a, 1e-10 * (b - a)));
-      loop.Step(z, a, b, r[k], u0, j == 0 ? 0 : DelayedLoop::kSmooth);
+      // u can only jump (generation 0) where r switches, or at t[0] from the state before.
+      const bool jump = j == 0 && (k == 0 || r[k] != r[k - 1]);
+      loop.Step(z, a, b, r[k], u0, jump ? 0 : DelayedLoop::kSmooth);
     }
   }
   return out;
