@@ -42,8 +42,10 @@ struct ClosedLoopResponse {
 // Closed-loop response to the held reference r. The plant must be proper and, when it has dead
 // time, strictly proper or the controller strictly proper (no algebraic loop through the delay is
 // possible, but D_plant * D_controller = -1 is refused). The exact dead time is kept in the loop;
-// between samples the loop is integrated with an internal step no longer than the sample period,
-// the dead time, or a tenth of the fastest closed-loop time constant, whichever is smallest.
+// between samples the loop is integrated with an internal step no longer than the sample period
+// or a tenth of the fastest closed-loop time constant, whichever is smaller (steps longer than
+// the dead time solve for their own actuator history; method in simulate.cc and delayed_loop.h).
+// A dead time below 1e-9 of the shortest sample interval is treated as zero.
 ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Controller& controller,
                                       double gain, std::span<const double> t,
                                       std::span<const double> r,
