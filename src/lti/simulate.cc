@@ -281,7 +281,7 @@ ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Contr
   if (steps > 5e7) {
     throw UsageError("closed-loop simulation would need " + std::to_string(steps) +
                      " internal steps of " + std::to_string(max_step) +
-                     " s (dead time or closed-loop time constant far shorter than the record); "
+                     " s (a closed-loop time constant far shorter than the record); "
                      "shorten the record or simulate the delay-free loop");
   }
 

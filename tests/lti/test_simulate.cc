@@ -410,3 +410,23 @@ TEST_CASE("Closed loop with dead time: inserted grid points holding r change not
   MESSAGE("uniform vs non-uniform closed loop max difference " << worst);
   CHECK(worst <= 1e-7);
 }
+
+TEST_CASE("Closed loop with dead time stabilising an unstable plant vs Padé [8/8]") {
+  // 1 / (s - 0.5) e^{-0.2 s} under P with K = 1.5: the loop pole moves to the left half plane.
+  const lw::TransferFunction plant({1.0}, {1.0, -0.5}, 0.2);
+  const lw::Controller p;
+  for (double h : {0.01, 0.5}) {  // steps shorter and longer than the dead time
+    const std::vector<double> t = Grid(h, static_cast<int>(20.0 / h) + 1);
+    const std::vector<double> r = lw::InputSignal::Parse("step:0:1:1").Sample(t);
+    const lw::ClosedLoopResponse cl = lw::SimulateClosedLoop(plant, p, 1.5, t, r);
+    const lw::UnityFeedback loop(p.WithGain(1.5) * plant);
+    const double d8 = MaxAbsDiff(cl.y, lw::Simulate(loop.WithPade(8), t, r));
+    const double d4 = MaxAbsDiff(cl.y, lw::Simulate(loop.WithPade(4), t, r));
+    CAPTURE(h);
+    MESSAGE("unstable plant, h = " << h << ": Padé 4 / 8 max difference " << d4 << " / " << d8);
+    // Under P control u jumps with r and the Padé loop rings there (error ~ 1/order).
+    CHECK(d8 <= 1e-2);
+    CHECK(d8 < 0.6 * d4);
+    CHECK(cl.y.back() == doctest::Approx(1.5 / (1.5 - 0.5)).epsilon(1e-4));  // K G0 / (1 + K G0)
+  }
+}
