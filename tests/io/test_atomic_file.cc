@@ -63,13 +63,9 @@ TEST_CASE("An uncommitted file leaves nothing, and an existing target is untouch
 TEST_CASE("A folder that does not exist is a usage error naming the path") {
   TempDir dir;
   const std::string path = dir.File("missing/out.csv");
-  try {
-    lw::WriteFileAtomically(path, "x");
-    FAIL("expected UsageError");
-  } catch (const lw::UsageError& e) {
-    CHECK(std::string(e.what()) == "cannot write '" + path + "': No such file or directory");
-    CHECK(e.status() == lw::ExitStatus::kUsage);
-  }
+  CHECK_THROWS_WITH_AS(lw::WriteFileAtomically(path, "x"),
+                       ("cannot write '" + path + "': No such file or directory").c_str(),
+                       lw::UsageError);
 }
 
 TEST_CASE("A read-only folder fails before anything is written") {

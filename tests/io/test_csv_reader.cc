@@ -182,23 +182,16 @@ TEST_CASE("ReadCsv reads a file and names it in errors; a missing file is a data
   lw::test::TempDir dir;
   const std::string path = dir.File("step.csv");
   lw::test::WriteText(path, "t,u,y\n0,0,0\n0.1,1,0.2\n0.2,1,x\n");
-  try {
-    lw::ReadCsv(path);
-    FAIL("expected DataError");
-  } catch (const lw::DataError& e) {
-    CHECK(std::string(e.what()) == path + ", line 4, column 3: 'x' is not a number");
-  }
+  CHECK_THROWS_WITH_AS(lw::ReadCsv(path),
+                       (path + ", line 4, column 3: 'x' is not a number").c_str(), lw::DataError);
   lw::test::WriteText(path, "t,u,y\n0,0,0\n0.1,1,0.2\n");
   const lw::Table t = lw::ReadCsv(path);
   CHECK(t.path == path);
   CHECK(t.rows() == 2);
-  try {
-    lw::ReadCsv(dir.File("nope.csv"));
-    FAIL("expected DataError");
-  } catch (const lw::DataError& e) {
-    CHECK(std::string(e.what()) ==
-          "cannot read '" + dir.File("nope.csv") + "': No such file or directory");
-  }
+  CHECK_THROWS_WITH_AS(
+      lw::ReadCsv(dir.File("nope.csv")),
+      ("cannot read '" + dir.File("nope.csv") + "': No such file or directory").c_str(),
+      lw::DataError);
   lw::test::WriteText(path, "");
   CHECK_THROWS_WITH_AS(lw::ReadCsv(path), (path + ": no header row (the file is empty)").c_str(),
                        lw::DataError);
