@@ -14,9 +14,9 @@ the delayed switching times t[i] + T, where the delayed input u(t - T) is consta
 time is exact. For a few models the same response is also integrated with
 scipy.integrate.solve_ivp (DOP853, tight tolerances) over those sub-intervals. Closed loops are
 checked too: with T = 0 against the rational closed loop N/(D+N) built with numpy polynomial
-arithmetic, and with T > 0 against a method-of-steps integration of the delay differential
-equation with solve_ivp, the delayed actuator value read from the dense output of the earlier
-steps.
+arithmetic, and with T > 0 (P and PI controllers) against a method-of-steps integration of the
+delay differential equation with solve_ivp, the delayed actuator value read from the dense
+output of the earlier steps.
 
 Prints a table of max errors relative to the output's range and exits 1 when an open-loop or
 T = 0 error exceeds 1e-8 (the solve_ivp comparisons are limited by the integrator tolerance:
@@ -24,6 +24,7 @@ T = 0 error exceeds 1e-8 (the solve_ivp comparisons are limited by the integrato
 """
 import subprocess
 import sys
+from math import factorial
 
 import numpy as np
 from scipy import integrate, signal
@@ -238,6 +239,32 @@ def reference_dde(num, den, knum, kden, delay, t, r):
     return y
 
 
+def pade_polys(delay, order=8):
+    """[n/n] Padé approximant of exp(-T s) (closed form, e.g. Franklin, Powell & Emami-Naeini;
+    from memory): numerator and denominator in descending powers."""
+    c = [factorial(2 * order - k) * factorial(order)
+         / (factorial(2 * order) * factorial(k) * factorial(order - k)) for k in range(order + 1)]
+    num = [c[k] * (-delay) ** k for k in range(order + 1)][::-1]
+    den = [c[k] * delay ** k for k in range(order + 1)][::-1]
+    return np.array(num), np.array(den)
+
+
+def stable_pi(num, den, delay, gain):
+    """A PI zero and gain whose loop is stable by the Padé [8/8] closed-loop poles (margin 0.01
+    of the slowest plant pole), halving the gain until it is."""
+    slowest = min(abs(np.real(p)) for p in np.roots(den))
+    zero = 0.3 * slowest
+    gain = abs(gain) * np.sign(np.polyval(num, 0.0) / np.polyval(den, 0.0))  # K G(0) > 0
+    pn, pd = pade_polys(delay)
+    for _ in range(20):
+        char = np.polyadd(np.polymul(np.polymul(den, [1.0, 0.0]), pd),
+                          np.polymul(np.polymul(num, [gain, gain * zero]), pn))
+        if np.max(np.real(np.roots(char))) < -0.01 * slowest:
+            return zero, gain
+        gain *= 0.5
+    raise RuntimeError("no stable PI gain found")
+
+
 def jittered(rng, h, end):
     steps = rng.uniform(0.3 * h, 1.7 * h, int(end / h * 1.2) + 10)
     t = np.concatenate([[0.0], np.cumsum(steps)])
@@ -285,17 +312,24 @@ def main():
                       rel_err(u0, reference_zoh(un, ud, 0.0, t, r, {})))
         if err_cl0 > TOL_EXACT:
             failures.append(f"model {i} closed loop T=0: {err_cl0:.2e}")
-        err_dde = float("nan")
+        err_dde = err_pi = float("nan")
         if i < 5 and len(num) < len(den) and delay > 0:
             yc, _ = run_driver(driver, num, den, delay, t, r, closed=("p", kp))
             err_dde = rel_err(yc, reference_dde(num, den, [kp], [1.0], delay, t, r))
-            if err_dde > TOL_DDE:
-                failures.append(f"model {i} closed loop with dead time: {err_dde:.2e}")
+            if i < 3:  # and a PI loop, whose controller has a state
+                z_pi, k_pi = stable_pi(num, den, delay, kp)
+                yc, _ = run_driver(driver, num, den, delay, t, r, closed=(f"pi:{z_pi!r}", k_pi))
+                ref = reference_dde(num, den, [k_pi, k_pi * z_pi], [1.0, 0.0], delay, t, r)
+                err_pi = rel_err(yc, ref)
+            if max(err_dde, 0.0 if np.isnan(err_pi) else err_pi) > TOL_DDE:
+                failures.append(f"model {i} closed loop with dead time: P {err_dde:.2e}, "
+                                f"PI {err_pi:.2e}")
         rows.append((i, len(den) - 1, len(num) - 1, delay / h, len(t), worst["uniform"],
-                     worst["jittered"], worst.get("ivp", float("nan")), err_cl0, err_dde))
+                     worst["jittered"], worst.get("ivp", float("nan")), err_cl0, err_dde, err_pi))
 
     print(f"{'model':>5} {'order':>5} {'zeros':>5} {'T/h':>7} {'samples':>7} "
-          f"{'uniform':>10} {'jittered':>10} {'solve_ivp':>10} {'loop T=0':>10} {'loop DDE':>10}")
+          f"{'uniform':>10} {'jittered':>10} {'solve_ivp':>10} {'loop T=0':>10} {'P DDE':>10} "
+          f"{'PI DDE':>10}")
     for row in rows:
         print(f"{row[0]:5d} {row[1]:5d} {row[2]:5d} {row[3]:7.3f} {row[4]:7d} "
               + " ".join(f"{v:10.2e}" for v in row[5:]))
