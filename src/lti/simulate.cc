@@ -16,14 +16,15 @@
 // Closed loop with dead time T > 0 (delayed_loop.h). With the plant and controller states
 // z = [x_p; x_c] and the delayed actuator signal w(t) = u(t - T),
 //   z' = A z + B_r r + B_w w,   u = C_u z + D_ur r + D_uw w,   y = C_y z + D_y w.
-// Between samples the loop is advanced by internal steps h_i no longer than the sample interval,
-// T, or a tenth of the fastest time constant among the plant poles, controller poles and
-// delay-free closed-loop poles. Because h_i <= T, the w a step needs lies in the already computed
-// past: a history of u stored as one cubic per internal step, interpolating u at four equally
-// spaced nodes of the step. Each step is split where the delayed history changes piece, and on
-// each part z is advanced exactly for the polynomial w (Van Loan block exponential, zoh.h).
-// Steps are also split where a non-smooth point of u (a sample time, where r switches, and its
-// first echoes T, 2T later) comes back through the delay, so no cubic straddles a kink. The only
+// Between samples the loop is advanced by internal steps h_i no longer than the sample interval
+// or a tenth of the fastest time constant among the plant poles, controller poles and delay-free
+// closed-loop poles. u is kept as a history of one cubic per step, interpolating u at four
+// equally spaced nodes of the step. A step is split where the delayed history changes piece,
+// and on each part z is advanced exactly for the polynomial w (Van Loan block exponential,
+// zoh.h). A step no longer than T reads only history already stored; a longer one also reads
+// its own cubic, found by fixed-point iteration (explicit steps of T if that diverges). Steps
+// are also split where a non-smooth point of u (a sample time where r switches, and its first
+// echoes T, 2T later) comes back through the delay, so no cubic straddles a kink. The only
 // approximation is the cubic interpolation of u within smooth stretches (local error O(h_i^4));
 // r is held, and every internal step boundary falls on the sample times where r switches.
 #include "lti/simulate.h"
