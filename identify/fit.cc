@@ -71,8 +71,11 @@ void Bounds(Structure s, double h, double d, std::vector<double>& lo, std::vecto
   hi[DeadTimeIndex(s)] = 0.9 * d;
 }
 
+// The data of one output-error problem; with stride 1 time and output are the recording's own
+// (no copy), only the input deviation is new.
 struct Prepared {
-  std::vector<double> t, v, y, w;
+  std::vector<double> t_own, v, y_own, w;
+  std::span<const double> t, y;
   OutputErrorProblem problem() const {
     OutputErrorProblem pb;
     pb.t = t;
@@ -86,10 +89,14 @@ struct Prepared {
 Prepared Prepare(const StepRecording& rec, double u_base, size_t stride) {
   Prepared p;
   for (size_t i = 0; i < rec.t.size(); i += stride) {
-    p.t.push_back(rec.t[i]);
+    if (stride > 1) {
+      p.t_own.push_back(rec.t[i]);
+      p.y_own.push_back(rec.y[i]);
+    }
     p.v.push_back(rec.u[i] - u_base);
-    p.y.push_back(rec.y[i]);
   }
+  p.t = stride > 1 ? std::span<const double>(p.t_own) : std::span<const double>(rec.t);
+  p.y = stride > 1 ? std::span<const double>(p.y_own) : std::span<const double>(rec.y);
   return p;
 }
 
@@ -306,25 +313,30 @@ Identification Identify(const StepRecording& recording, const FitOptions& option
     throw DataError("time, input and output columns differ in length");
   }
   Identification id;
-  StepRecording rec = recording;
+  StepRecording own;  // only filled when the window or decimation change the data
+  const StepRecording* use = &recording;
   if (std::isfinite(options.window_start) || std::isfinite(options.window_end)) {
-    rec = SelectWindow(recording, options.window_start, options.window_end);
+    own = SelectWindow(recording, options.window_start, options.window_end);
+    use = &own;
+    const StepRecording& rec = own;
     if (rec.t.size() < 10) {
       throw UsageError("window " + Num(options.window_start) + ":" + Num(options.window_end) +
                        " keeps " + std::to_string(rec.t.size()) +
                        " samples: a fit needs at least 10");
     }
   }
-  id.samples_in = rec.t.size();
-  if (rec.t.size() > options.decimate_above) {
+  id.samples_in = use->t.size();
+  if (use->t.size() > options.decimate_above) {
     id.decimation =
-        static_cast<int>((rec.t.size() + options.decimate_to - 1) / options.decimate_to);
-    AnalyseRecording(rec.t, rec.u, rec.y);  // refuse bad data before filtering hides it
-    rec = Decimate(rec, id.decimation);
+        static_cast<int>((use->t.size() + options.decimate_to - 1) / options.decimate_to);
+    AnalyseRecording(use->t, use->u, use->y);  // refuse bad data before filtering hides it
+    own = Decimate(*use, id.decimation);
+    use = &own;
     id.warnings.push_back("the record was decimated by " + std::to_string(id.decimation) + " (" +
-                          std::to_string(id.samples_in) + " -> " + std::to_string(rec.t.size()) +
+                          std::to_string(id.samples_in) + " -> " + std::to_string(own.t.size()) +
                           " samples) after an anti-alias low-pass filter");
   }
+  const StepRecording& rec = *use;
   RecordingAnalysis a = AnalyseRecording(rec.t, rec.u, rec.y);
   id.analysis = a;
   if (a.steps.size() > 1) {

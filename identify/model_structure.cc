@@ -74,7 +74,19 @@ std::vector<ParameterInfo> ParameterInfos(Structure s, std::string_view input_un
   return infos;
 }
 
-int ParameterCount(Structure s) { return static_cast<int>(ParameterNames(s).size()); }
+int ParameterCount(Structure s) {
+  switch (s) {
+    case Structure::kFopdt:
+    case Structure::kIntegrating:
+      return 3;
+    case Structure::kSopdt:
+    case Structure::kUnderdamped:
+      return 4;
+    case Structure::kSopdtZero:
+      return 5;
+  }
+  return 0;
+}
 
 int DeadTimeIndex(Structure s) { return ParameterCount(s) - 1; }
 

@@ -71,6 +71,8 @@ void ForEachRow(const OutputErrorProblem& pb, std::span<const double> x, bool wi
   const double tauz = has_zero ? x[3] : 0.0;
   const SampleGrid grid = MakeSampleGrid(pb.t);
   auto sqrt_weight = [&](size_t k) { return pb.weight.empty() ? 1.0 : std::sqrt(pb.weight[k]); };
+  int dyn_index[D];
+  for (int i = 0; i < D; ++i) dyn_index[i] = FullIndexOfDynamic(s, i);
   if (!with_jacobian) {
     double dyn[D];
     for (int i = 0; i < D; ++i) dyn[i] = x[FullIndexOfDynamic(s, i)];
@@ -95,7 +97,7 @@ void ForEachRow(const OutputErrorProblem& pb, std::span<const double> x, bool wi
     J shape = w0 * x1 + w1 * x2;
     double yhat = y0 + drift * (pb.t[k] - t0) + k_gain * shape.a;
     jrow[0] = sw * shape.a;
-    for (int i = 0; i < D; ++i) jrow[FullIndexOfDynamic(s, i)] = sw * k_gain * shape.v[i];
+    for (int i = 0; i < D; ++i) jrow[dyn_index[i]] = sw * k_gain * shape.v[i];
     if (has_zero) jrow[3] = sw * k_gain * (x1.a - x2.a) / tau2;
     jrow[ps] = sw;
     jrow[ps + 1] = sw * (pb.t[k] - t0);
@@ -119,28 +121,72 @@ size_t ResidualCount(const OutputErrorProblem& pb) {
   return pb.t.size() > pb.first_residual ? pb.t.size() - pb.first_residual : 0;
 }
 
+// The residual block Ceres sees: only the free parameters form its parameter block (held ones
+// are filled in from `base`), so Ceres stores no Jacobian columns for them.
 class OutputErrorCost : public ceres::CostFunction {
  public:
-  explicit OutputErrorCost(const OutputErrorProblem& pb) : pb_(pb) {
+  OutputErrorCost(const OutputErrorProblem& pb, std::vector<double> base, std::vector<int> free)
+      : pb_(pb), base_(std::move(base)), free_(std::move(free)) {
     set_num_residuals(static_cast<int>(ResidualCount(pb)));
-    mutable_parameter_block_sizes()->push_back(FullParameterCount(pb.structure));
+    mutable_parameter_block_sizes()->push_back(static_cast<int>(free_.size()));
   }
   bool Evaluate(double const* const* params, double* residuals, double** jacobians) const override {
-    const int p = FullParameterCount(pb_.structure);
-    std::span<const double> x(params[0], static_cast<size_t>(p));
-    if (!IsPhysical(pb_.structure, x.first(ParameterCount(pb_.structure)))) return false;
+    std::vector<double> x = base_;
+    for (size_t c = 0; c < free_.size(); ++c) x[free_[c]] = params[0][c];
+    if (!IsPhysical(pb_.structure,
+                    std::span<const double>(x).first(ParameterCount(pb_.structure)))) {
+      return false;
+    }
     double* jac = (jacobians != nullptr) ? jacobians[0] : nullptr;
-    EvaluateOutputError(pb_, x, residuals, jac);
-    const size_t n = ResidualCount(pb_);
-    for (size_t i = 0; i < n; ++i) {
-      if (!std::isfinite(residuals[i])) return false;
+    bool finite = true;
+    const size_t m = free_.size();
+    auto sink = [&](size_t i, double r, const double* jrow) {
+      residuals[i] = r;
+      finite = finite && std::isfinite(r);
+      if (jrow) {
+        for (size_t c = 0; c < m; ++c) jac[i * m + c] = jrow[free_[c]];
+      }
+    };
+    Rows(pb_, x, jac != nullptr, sink);
+    return finite;
+  }
+
+ private:
+  const OutputErrorProblem& pb_;
+  std::vector<double> base_;
+  std::vector<int> free_;
+};
+
+// r = R dx with a constant Jacobian R (R'R = J'J): the fit's linearisation compressed to
+// p rows, so Ceres' covariance of it is (J'J)^-1 without an N x p matrix.
+class CompressedCost : public ceres::CostFunction {
+ public:
+  explicit CompressedCost(Eigen::MatrixXd r) : r_(std::move(r)) {
+    set_num_residuals(static_cast<int>(r_.rows()));
+    mutable_parameter_block_sizes()->push_back(static_cast<int>(r_.cols()));
+  }
+  bool Evaluate(double const* const* params, double* residuals, double** jacobians) const override {
+    const Eigen::Index m = r_.cols();
+    Eigen::Map<const Eigen::VectorXd> x(params[0], m);
+    Eigen::Map<Eigen::VectorXd>(residuals, r_.rows()) = r_ * x;
+    if (jacobians && jacobians[0]) {
+      Eigen::Map<Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor>>(
+          jacobians[0], r_.rows(), m) = r_;
     }
     return true;
   }
 
  private:
-  const OutputErrorProblem& pb_;
+  Eigen::MatrixXd r_;
 };
+
+std::vector<int> FreeIndices(const std::vector<bool>& fixed) {
+  std::vector<int> free;
+  for (int i = 0; i < static_cast<int>(fixed.size()); ++i) {
+    if (!fixed[i]) free.push_back(i);
+  }
+  return free;
+}
 
 }  // namespace
 
@@ -203,8 +249,17 @@ SolveReport SolveOutputError(const OutputErrorProblem& problem, std::vector<doub
   report.residuals = ResidualCount(problem);
   report.free_parameters = static_cast<int>(std::count(fixed.begin(), fixed.end(), false));
 
-  CeresRun run = RunCeres(new OutputErrorCost(problem), report.x, fixed, lower, upper, options,
-                          report.residuals);
+  const std::vector<int> free = FreeIndices(fixed);
+  if (free.empty()) throw UsageError("output-error solve: every parameter is fixed");
+  std::vector<double> xf, lf, uf;
+  for (int i : free) {
+    xf.push_back(report.x[i]);
+    lf.push_back(lower[i]);
+    uf.push_back(upper[i]);
+  }
+  CeresRun run = RunCeres(new OutputErrorCost(problem, report.x, free), xf,
+                          std::vector<bool>(free.size(), false), lf, uf, options, report.residuals);
+  for (size_t c = 0; c < free.size(); ++c) report.x[free[c]] = xf[c];
   report.rss = run.rss;
   report.iterations = run.iterations;
   report.converged = run.converged;
@@ -297,13 +352,28 @@ void ComputeOutputErrorCovariance(const OutputErrorProblem& problem, const std::
     return;
   }
   const double s2 = report.rss / dof;
-  report.rank_deficiency =
-      DescribeRankDeficiency(NormalMatrix(problem, report.x), fixed, FullParameterNames(s));
+  const Eigen::MatrixXd jtj = NormalMatrix(problem, report.x);
+  report.rank_deficiency = DescribeRankDeficiency(jtj, fixed, FullParameterNames(s));
   if (!report.rank_deficiency.empty()) return;
+  // Ceres' covariance of the compressed linearisation R (R'R = J'J of the free parameters,
+  // R = Lambda^(1/2) V' from the eigen-decomposition), which equals (J'J)^-1.
+  const std::vector<int> free = FreeIndices(fixed);
+  const int m = static_cast<int>(free.size());
+  Eigen::MatrixXd nf(m, m);
+  for (int a = 0; a < m; ++a) {
+    for (int b = 0; b < m; ++b) nf(a, b) = jtj(free[a], free[b]);
+  }
+  Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(nf);
+  Eigen::MatrixXd r =
+      eig.eigenvalues().cwiseMax(0.0).cwiseSqrt().asDiagonal() * eig.eigenvectors().transpose();
   Eigen::MatrixXd unscaled;
-  report.covariance_ok = CeresCovariance(new OutputErrorCost(problem), report.x, fixed, unscaled);
+  std::vector<double> origin(m, 0.0);
+  report.covariance_ok =
+      CeresCovariance(new CompressedCost(r), origin, std::vector<bool>(m, false), unscaled);
   if (report.covariance_ok) {
-    report.covariance = unscaled * s2;
+    for (int a = 0; a < m; ++a) {
+      for (int b = 0; b < m; ++b) report.covariance(free[a], free[b]) = unscaled(a, b) * s2;
+    }
   } else {
     report.rank_deficiency = "the covariance is rank-deficient (Ceres dense SVD)";
   }

@@ -11,7 +11,10 @@
 // differentiated by hand (a test checks both against central differences).
 //
 // The covariance of x is Ceres' (J'J)^-1 (ceres::Covariance, dense SVD) scaled by the residual
-// variance s^2 = RSS / (n - p) with p the number of free parameters.
+// variance s^2 = RSS / (n - p) with p the number of free parameters. To keep memory at O(p^2)
+// for long records, J'J is accumulated row by row and Ceres is given the equivalent p-row
+// problem R dx with R'R = J'J (the same (J'J)^-1; the rank test is done on the column-scaled
+// J'J first, see ceres_solve.h). Held parameters are left out of Ceres' parameter block.
 #ifndef LOOPWRIGHT_IDENTIFY_OUTPUT_ERROR_H_
 #define LOOPWRIGHT_IDENTIFY_OUTPUT_ERROR_H_
 

@@ -9,6 +9,7 @@
 
 #include "identify/fit.h"
 #include "identify/output_error.h"
+#include "identify/parameter_draws.h"
 #include "identify/response_kernel.h"
 #include "identify/two_point.h"
 #include "lti/error.h"
@@ -168,4 +169,33 @@ TEST_CASE("unusable recordings are refused with one clear sentence") {
   lw::StepRecording nan = good;
   std::fill(nan.y.begin(), nan.y.end(), std::numeric_limits<double>::quiet_NaN());
   CHECK(refused(nan, "no finite values") == "ok");
+}
+
+// Sample mean and covariance of many draws against the given ones (law of large numbers: the
+// errors shrink like 1/sqrt(n); 4 standard errors allowed).
+TEST_CASE("parameter draws reproduce their mean and covariance and stay physical") {
+  std::vector<double> mean = {2.0, 5.0, 0.8};
+  Eigen::MatrixXd cov(3, 3);
+  cov << 0.01, 0.002, 0.0, 0.002, 0.04, -0.001, 0.0, -0.001, 0.0025;
+  const size_t n = 20000;
+  lw::ParameterDraws d = lw::DrawParameters(Structure::kFopdt, mean, cov, n, 42);
+  REQUIRE(d.parameters.size() == n);
+  REQUIRE(d.plants.size() == n);
+  Eigen::Vector3d m = Eigen::Vector3d::Zero();
+  for (const auto& v : d.parameters) m += Eigen::Vector3d(v[0], v[1], v[2]);
+  m /= static_cast<double>(n);
+  Eigen::Matrix3d c = Eigen::Matrix3d::Zero();
+  for (const auto& v : d.parameters) {
+    Eigen::Vector3d e = Eigen::Vector3d(v[0], v[1], v[2]) - m;
+    c += e * e.transpose();
+  }
+  c /= static_cast<double>(n - 1);
+  for (int i = 0; i < 3; ++i) {
+    CHECK(std::abs(m[i] - mean[i]) < 4.0 * std::sqrt(cov(i, i) / n));
+    CHECK(std::abs(c(i, i) - cov(i, i)) < 4.0 * cov(i, i) * std::sqrt(2.0 / n));
+  }
+  for (const auto& v : d.parameters) CHECK(lw::IsPhysical(Structure::kFopdt, v));
+  // Same seed, same draws.
+  lw::ParameterDraws again = lw::DrawParameters(Structure::kFopdt, mean, cov, 3, 42);
+  CHECK(again.parameters[0] == d.parameters[0]);
 }
