@@ -518,7 +518,7 @@ void Figure::Legend(const std::vector<LegendEntry>& entries, int corner) {
     longest = std::max(longest, chars);
   }
   const double row = 17, sample = 26, pad = 7;
-  const double bw = pad * 3 + sample + 7.4 * static_cast<double>(longest);
+  const double bw = pad * 3 + sample + 9.2 * static_cast<double>(longest);
   const double bh = pad * 2 + row * static_cast<double>(entries.size());
   double x0 = (corner == 1 || corner == 3) ? 8 : pw - 8 - bw;
   double y0 = (corner == 2 || corner == 3) ? 8 : ph - 8 - bh;
@@ -533,7 +533,17 @@ void Figure::Legend(const std::vector<LegendEntry>& entries, int corner) {
   for (size_t i = 0; i < entries.size(); ++i) {
     const auto& e = entries[i];
     double cy = y0 + bh - pad - row * (static_cast<double>(i) + 0.5);
-    if (e.filled_box) {
+    if (!e.markers.empty()) {
+      s.SetInk(e.stroke.ink);
+      plwidth(1.4);
+      for (size_t m = 0; m < e.markers.size(); ++m) {
+        auto shape = MarkerShape(e.markers[m], 4.5);
+        std::vector<PLFLT> mx, my;
+        double cx = x0 + pad + 6 + 14 * static_cast<double>(m);
+        for (const auto& [dx, dy] : shape) mx.push_back(cx + dx), my.push_back(cy + dy);
+        plline(static_cast<PLINT>(mx.size()), mx.data(), my.data());
+      }
+    } else if (e.filled_box) {
       PLFLT fx[4] = {x0 + pad, x0 + pad + sample, x0 + pad + sample, x0 + pad};
       PLFLT fy[4] = {cy - 5, cy - 5, cy + 5, cy + 5};
       s.SetTranslucent(e.stroke.ink, 0.35);

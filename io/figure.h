@@ -30,6 +30,7 @@
 #define LOOPWRIGHT_IO_FIGURE_H_
 
 #include <memory>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -59,7 +60,8 @@ struct Stroke {
 struct LegendEntry {
   std::string text;
   Stroke stroke;
-  bool filled_box = false;  // a shaded square instead of a line sample
+  bool filled_box = false;           // a shaded square instead of a line sample
+  std::vector<Marker> markers = {};  // marker samples (outlined) instead of a line, when not empty
 };
 
 enum class FigureFormat { kSvg, kPng, kPdf };
