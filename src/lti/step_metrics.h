@@ -5,19 +5,24 @@
 //                  default), crossings interpolated linearly between samples;
 //   peak time      time from the step to the extreme value in the direction of the change;
 //   overshoot      100 * (peak - final) / (final - initial), 0 when there is none;
-//   undershoot     100 * the largest excursion opposite the change before it / |change|;
+//   undershoot     100 * the largest excursion opposite the change, before the response first
+//                  reaches rise_high, / |change|;
 //   settling time  time from the step after which y stays within settle_band * |change| of final
 //                  (2 % band by default);
 //   steady-state error  target - final, when a target (the reference) is given;
 //   peak actuator  the largest |u| at or after the step.
 // Without noise (the default) initial is the last sample before t_step, final the last sample:
 // the record must be long enough for the response to settle. A record whose final value equals
-// its initial value has no step: rise and settling time are NaN and the rest is 0.
+// its initial value has no step: rise and settling time are NaN, settled is false, overshoot and
+// undershoot are 0.
 // When the response does not overshoot, peak and peak time are those of its largest value (for a
 // monotone response, near the end of the record).
-// For measured data (`noisy`), see step_metrics.cc's header comment for the method: the final
-// value is a robust average of the settled tail, and crossings are taken on a smoothed trace with
-// hysteresis of a few noise standard deviations so noise cannot create false crossings.
+// For measured data (`noisy`), step_metrics.cc's header comment gives the method in full: the
+// noise standard deviation comes from the MAD of second differences; initial and final are 25 %
+// trimmed means of the samples before the step and of the settled tail; crossings, the peak and
+// the settling band are taken on a local quadratic (Savitzky-Golay) smoothing of the trace with a
+// hysteresis of hysteresis_sd smoothed-noise standard deviations, so noise cannot create false
+// crossings; overshoot or undershoot smaller than that hysteresis is reported as 0.
 #ifndef LOOPWRIGHT_LTI_STEP_METRICS_H_
 #define LOOPWRIGHT_LTI_STEP_METRICS_H_
 
@@ -29,7 +34,7 @@ namespace lw {
 struct StepMetricsOptions {
   double rise_low = 0.1;  // fraction of the change, 0 <= rise_low < rise_high <= 1
   double rise_high = 0.9;
-  double settle_band = 0.02;  // fraction of |change|, > 0
+  double settle_band = 0.02;  // fraction of |change|, in (0, 1)
   // Treat the data as measured: estimate noise, use robust final value and hysteresis.
   bool noisy = false;
   // Fraction of the samples after the step that form the tail: the final value is their robust

@@ -7,7 +7,7 @@ if(LOOPWRIGHT_CLANGXX)
   add_test(NAME fuzz_smoke
            COMMAND bash ${CMAKE_CURRENT_LIST_DIR}/fuzz_smoke.sh ${LOOPWRIGHT_CLANGXX}
                    ${PROJECT_SOURCE_DIR} ${CMAKE_BINARY_DIR}/fuzz 10)
-  set_tests_properties(fuzz_smoke PROPERTIES LABELS fuzz TIMEOUT 300)
+  set_tests_properties(fuzz_smoke PROPERTIES LABELS fuzz TIMEOUT 900)
 else()
   message(STATUS "clang++ not found: the fuzz smoke test is not registered")
 endif()

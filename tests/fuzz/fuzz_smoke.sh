@@ -11,18 +11,25 @@ mkdir -p "$work/obj"
 flags=(-std=c++20 -O1 -g -fsanitize=fuzzer,address,undefined -fno-sanitize-recover=undefined
        -I"$src" -I"$src/src" -I/usr/include/eigen3 -w)
 
-# Compile one source into an object unless the object is newer than the source and every header.
-newest_header=$(find "$src/src/lti" "$src/io" -name '*.h' -printf '%T@\n' | sort -n | tail -1)
+# Compile one source into an object unless the object is newer than the source and every file
+# it included (from the dependency list clang writes beside it with -MMD).
+stale() {  # stale OBJECT
+  local object=$1 dep
+  [ -f "$object" ] && [ -f "$object.d" ] || return 0
+  for dep in $(sed -e 's/^[^:]*://' -e 's/\\$//' "$object.d"); do
+    [ "$dep" -nt "$object" ] && return 0
+  done
+  return 1
+}
 compile() {
   local source=$1 object
   object="$work/obj/$(echo "${source#"$src"/}" | tr '/' '_').o"
-  if [ ! -f "$object" ] || [ "$source" -nt "$object" ] ||
-     [ "$(stat -c %Y "$object")" -lt "${newest_header%.*}" ]; then
-    "$cxx" "${flags[@]}" -fsanitize=fuzzer-no-link -c "$source" -o "$object" || return 1
+  if stale "$object"; then
+    "$cxx" "${flags[@]}" -fsanitize=fuzzer-no-link -MMD -MF "$object.d" -c "$source" \
+      -o "$object" || return 1
   fi
   echo "$object"
 }
-export -f compile
 
 build() {  # build NAME SOURCES... (file names, ".cc" added when missing)
   local name=$1; shift
