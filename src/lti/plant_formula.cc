@@ -22,10 +22,11 @@
 namespace lw {
 namespace {
 
-constexpr int kMaxPower = 64;
 // Limits that keep hostile input cheap: plants are low order, and every nesting level (a
 // parenthesis or a sign) costs a few stack frames.
 constexpr int kMaxDegree = 100;
+// A single power may be as large as the largest degree, so every ToString() reads back.
+constexpr int kMaxPower = kMaxDegree;
 constexpr int kMaxDepth = 200;
 
 // N(s)/D(s), optionally times exp(-T s). exp_column is the column of the exp factor (0: none).

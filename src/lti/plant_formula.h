@@ -7,7 +7,7 @@
 // a factor may (it multiplies the whole formula).
 // No common factors are cancelled, except that fractions with identical denominators are added
 // over that denominator (1/(s+1) + 2/(s+1) is 3/(s+1)).
-// Limits: powers up to 64, degree in s up to 100 (numerator and denominator), and at most 200
+// Limits: powers and the degree in s up to 100 (numerator and denominator), and at most 200
 // nested levels of parentheses and signs.
 #ifndef LOOPWRIGHT_LTI_PLANT_FORMULA_H_
 #define LOOPWRIGHT_LTI_PLANT_FORMULA_H_
