@@ -76,8 +76,7 @@ int main(int argc, char** argv) {
       return static_cast<int>(e.status());
     } catch (const std::exception& e) {
       std::cout.flush();
-      std::cerr << "loopwright " << subs[i]->get_name() << ": internal error: " << e.what()
-                << "\n";
+      std::cerr << "loopwright " << subs[i]->get_name() << ": internal error: " << e.what() << "\n";
       return static_cast<int>(lw::ExitStatus::kJobFailed);
     }
   }

@@ -1,0 +1,56 @@
+#!/usr/bin/env bash
+# The loopwright demo: recordings/demo.sh BINARY OUTDIR (run by `./bootstrap demo`).
+#
+# A walk through the tool on synthetic data only: it reads and writes files, it drives no
+# hardware. Each step has a banner; later steps (fit, band, predict) are appended at the marker
+# near the end, one numbered step each.
+set -euo pipefail
+bin=${1:?usage: recordings/demo.sh BINARY OUTDIR}
+out=${2:?usage: recordings/demo.sh BINARY OUTDIR}
+here=$(cd "$(dirname "$0")" && pwd)
+mkdir -p "$out"
+out=$(cd "$out" && pwd)
+
+step=0
+banner() {
+  step=$((step + 1))
+  printf '\n=== step %d: %s ===\n' "$step" "$*"
+}
+run() {
+  printf '$ %s\n' "$*" | sed "s#$bin#loopwright#; s#$out/##g; s#$here/##g"
+  "$@"
+}
+
+cat <<'TEXT'
+loopwright demo: the extruder heater zone of recordings/README.md (synthetic data).
+This demo drives no hardware. On a real rig: keep the emergency stop within reach, verify the
+actuator and process limits, start at a low gain, let a qualified person decide, and follow
+local codes and the site's procedures first.
+TEXT
+
+# The scenario: zone 3 of an extruder barrel, heater power (%) to zone temperature (degC above
+# ambient), true model 2.6 exp(-38 s) / ((240 s + 1)(45 s + 1)) (see recordings/README.md).
+zone='2.6*exp(-38*s)/((240*s+1)*(45*s+1))'
+
+banner "simulate the open-loop step test of the heater zone (a dry run before the rig)"
+run "$bin" simulate --plant "$zone" --input step:55:65:120 --rate 1 --duration 1800 \
+  --noise 0.15 --quantize 0.1 --seed 101 -o "$out/heater_zone_step.csv"
+if cmp -s <(tail -n +2 "$out/heater_zone_step.csv") <(tail -n +2 "$here/heater_zone_step.csv"); then
+  echo "same data as the bundled recordings/heater_zone_step.csv (same seed, same file)"
+else
+  echo "note: differs from the bundled recording; run recordings/make_recordings.sh to refresh it"
+fi
+
+banner "simulate the zone under PI control with the heater limited to 0-100 %"
+run "$bin" simulate --plant "$zone" --controller pi:0.005 --gain 1.2 \
+  --reference step:150:170:60 --saturate 0:100 --rate 1 --duration 1500 \
+  -o "$out/heater_zone_closed_loop_dry_run.csv"
+
+banner "fit a model to the step test: every structure, chosen by AICc, with 95 % intervals"
+run "$bin" fit "$out/heater_zone_step.csv" -o "$out/heater_zone_model.json"
+echo "model file: heater_zone_model.json (parameters, covariance, provenance)"
+
+# ---- next steps go here (h4: `fit` of heater_zone_step.csv; h5: `band`, then `predict`) ----
+# Pattern: banner "what this step shows"; run "$bin" COMMAND ...; files go to "$out".
+
+printf '\ndemo done: files in %s\n' "$out"

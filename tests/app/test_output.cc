@@ -1,0 +1,88 @@
+// Output helpers: number formatting, JSON numbers, table alignment.
+#include <cmath>
+#include <limits>
+#include <sstream>
+
+#include <doctest/doctest.h>
+
+#include "app/output.h"
+
+namespace lw::app {
+namespace {
+
+TEST_CASE("FormatNumber keeps the asked significant digits without trailing zeros") {
+  CHECK(FormatNumber(0.1234567) == "0.1235");
+  CHECK(FormatNumber(2.0) == "2");
+  CHECK(FormatNumber(-0.0) == "0");
+  CHECK(FormatNumber(12.5) == "12.5");
+  CHECK(FormatNumber(123456.0) == "123456");
+  CHECK(FormatNumber(1234567.0) == "1.235e+06");
+  CHECK(FormatNumber(1.5e6) == "1.5e+06");
+  CHECK(FormatNumber(3.2e-5) == "3.2e-05");
+  CHECK(FormatNumber(0.00012345, 3) == "0.000123");
+  CHECK(FormatNumber(1.0 / 3.0, 17) == "0.33333333333333331");
+  CHECK(FormatNumber(std::nan("")) == "n/a");
+  CHECK(FormatNumber(std::numeric_limits<double>::infinity()) == "inf");
+  CHECK(FormatNumber(-std::numeric_limits<double>::infinity()) == "-inf");
+  CHECK(FormatQuantity(3.25, "s", 2) == "3.2 s");  // round half to even of the binary value
+  CHECK(FormatQuantity(7.0, "") == "7");
+}
+
+TEST_CASE("JsonNumber turns non-finite values into null") {
+  CHECK(JsonNumber(1.5).get<double>() == 1.5);
+  CHECK(JsonNumber(std::nan("")).is_null());
+  CHECK(JsonNumber(std::numeric_limits<double>::infinity()).is_null());
+  nlohmann::json a = JsonNumbers({1.0, std::nan(""), 3.0});
+  REQUIRE(a.size() == 3);
+  CHECK(a[1].is_null());
+  CHECK(a[2].get<double>() == 3.0);
+}
+
+TEST_CASE("TextTable right-aligns numeric columns and left-aligns text") {
+  TextTable table({"parameter", "value", "unit"});
+  table.AddRow({"gain", "2.6", "degC/%"});
+  table.AddRow({"time constant", "240", "s"});
+  table.AddRow({"dead time", "38.5"});  // short row: padded
+  std::ostringstream out;
+  table.Print(out, 0);
+  CHECK(out.str() ==
+        "parameter      value  unit\n"
+        "-------------  -----  ------\n"
+        "gain             2.6  degC/%\n"
+        "time constant    240  s\n"
+        "dead time       38.5\n");
+}
+
+TEST_CASE("TextTable counts UTF-8 code points for alignment") {
+  TextTable table({"unit", "x"});
+  table.AddRow({"\u00b0C", "1"});  // degree sign: 2 bytes, 1 column
+  std::ostringstream out;
+  table.Print(out, 2);
+  CHECK(out.str() ==
+        "  unit  x\n"
+        "  ----  -\n"
+        "  \u00b0C    1\n");
+}
+
+TEST_CASE("KeyValueList pads keys to one width") {
+  KeyValueList kv;
+  kv.Add("samples", "1801");
+  kv.Add("file", "a.csv");
+  std::ostringstream out;
+  kv.Print(out, 1);
+  CHECK(out.str() == " samples: 1801\n file:    a.csv\n");
+}
+
+TEST_CASE("colour helpers only colour when the context allows it") {
+  std::ostringstream out, err;
+  Context plain{out, err, false, false, ""};
+  Context coloured{out, err, true, true, ""};
+  CHECK(Bold(plain, "x") == "x");
+  CHECK(Bad(coloured, "x") == "\033[31mx\033[0m");
+  CHECK(Good(coloured, "ok") == "\033[32mok\033[0m");
+  Warn(plain, "record ends before settling");
+  CHECK(err.str() == "warning: record ends before settling\n");
+}
+
+}  // namespace
+}  // namespace lw::app
