@@ -118,6 +118,25 @@ def case_simulate_open():
         "10", "--duration", "5", "-o", path("sat.csv"))
     rows = read_csv(path("sat.csv"))[2]
     check(max(u for _, u, _ in rows) == 2.0, "open-loop --saturate clips u at HI")
+    # --start zero: the lag starts from the zero state, y = 1.5 (1 - exp(-(t - 0.35)/2)) for the
+    # first second (input 1 from t = 0, delayed by 0.35 s).
+    run("simulate", "--plant", "1.5*exp(-0.35*s)/(2*s+1)", "--input", "step:1:3:1", "--rate", "20",
+        "--duration", "5", "--start", "zero", "-o", path("zero.csv"))
+    rows = read_csv(path("zero.csv"))[2]
+    worst = max(abs(y - (0.0 if t < 0.35 else 1.5 * (1 - math.exp(-(t - 0.35) / 2))))
+                for t, _, y in rows if t < 1.3)
+    check(worst < 1e-9, f"--start zero follows the closed form from rest at 0 (max error {worst:.3g})")
+    # A model file from `fit` drives simulate through --model and as a positional.
+    code, _, err = run("fit", out_file, "-o", path("model.json"))
+    check(code == 0, f"fit of the simulated step writes a model file ({err})")
+    if code == 0:
+        for spelling in (["--model", path("model.json")], [path("model.json")]):
+            code, _, err = run("simulate", *spelling, "--input", "step:1:3:1", "--rate", "20",
+                               "--duration", "30", "-o", path("from_model.csv"))
+            check(code == 0, f"simulate {spelling[0]} exits 0 ({err})")
+            again = read_csv(path("from_model.csv"))[2]
+            worst = max(abs(a[2] - b[2]) for a, b in zip(again, read_csv(out_file)[2]))
+            check(worst < 1e-3, f"the fitted model reproduces the noise-free data (max {worst:.3g})")
 
 
 def case_simulate_closed():
