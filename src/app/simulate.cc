@@ -28,7 +28,7 @@
 #include "app/controller_option.h"
 #include "app/model_source.h"
 #include "app/output.h"
-#include "app/saturated_loop.h"
+#include "lti/saturated_loop.h"
 #include "io/csv_reader.h"
 #include "io/csv_writer.h"
 #include "io/recording.h"
@@ -37,7 +37,7 @@
 #include "lti/simulate.h"
 #include "lti/step_metrics.h"
 
-namespace lw::app {
+namespace lw {
 namespace {
 
 constexpr long kMaxSamples = 50'000'000;
@@ -397,4 +397,4 @@ class SimulateCommand : public Command {
 
 std::unique_ptr<Command> MakeSimulateCommand() { return std::make_unique<SimulateCommand>(); }
 
-}  // namespace lw::app
+}  // namespace lw

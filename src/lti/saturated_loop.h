@@ -1,4 +1,4 @@
-// The closed loop with a saturating actuator, for `loopwright simulate --saturate LO:HI`:
+// The closed loop with a saturating actuator (used by `loopwright simulate --saturate LO:HI`):
 //
 //   e = r - y,   v = C(s) e,   u = clip(v, LO, HI),   y = G(s) u    (G with its exact dead time)
 //
@@ -14,8 +14,8 @@
 // u(t - T) comes from the history of u at the internal steps, interpolated linearly (before t[0]
 // it is the initial actuator value). Controller and plant are realised by lti/state_space.h. r is
 // held between samples, as in lti/simulate.h.
-#ifndef LOOPWRIGHT_APP_SATURATED_LOOP_H_
-#define LOOPWRIGHT_APP_SATURATED_LOOP_H_
+#ifndef LOOPWRIGHT_LTI_SATURATED_LOOP_H_
+#define LOOPWRIGHT_LTI_SATURATED_LOOP_H_
 
 #include <span>
 #include <vector>
@@ -24,7 +24,7 @@
 #include "lti/simulate.h"
 #include "lti/transfer_function.h"
 
-namespace lw::app {
+namespace lw {
 
 struct ActuatorLimits {
   double low = 0.0;
@@ -45,6 +45,6 @@ SaturatedLoopResponse SimulateSaturatedLoop(const TransferFunction& plant,
                                             ActuatorLimits limits,
                                             const SimulateOptions& options = {});
 
-}  // namespace lw::app
+}  // namespace lw
 
-#endif  // LOOPWRIGHT_APP_SATURATED_LOOP_H_
+#endif  // LOOPWRIGHT_LTI_SATURATED_LOOP_H_

@@ -7,11 +7,11 @@
 
 #include <doctest/doctest.h>
 
-#include "app/saturated_loop.h"
+#include "lti/saturated_loop.h"
 #include "lti/error.h"
 #include "lti/input_signal.h"
 
-namespace lw::app {
+namespace lw {
 namespace {
 
 std::vector<double> StepAt(const std::vector<double>& t, double at, double from, double to) {
@@ -116,4 +116,4 @@ TEST_CASE("refusals") {
 }
 
 }  // namespace
-}  // namespace lw::app
+}  // namespace lw

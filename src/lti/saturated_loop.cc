@@ -1,4 +1,4 @@
-#include "app/saturated_loop.h"
+#include "lti/saturated_loop.h"
 
 #include <algorithm>
 #include <cmath>
@@ -9,7 +9,7 @@
 #include "lti/error.h"
 #include "lti/state_space.h"
 
-namespace lw::app {
+namespace lw {
 namespace {
 
 double Clip(double v, ActuatorLimits limits) { return std::clamp(v, limits.low, limits.high); }
@@ -218,4 +218,4 @@ SaturatedLoopResponse SimulateSaturatedLoop(const TransferFunction& plant,
   return out;
 }
 
-}  // namespace lw::app
+}  // namespace lw
