@@ -138,6 +138,40 @@ SolveReport Reweight(Prepared& data, Structure s, SolveReport report,
   return report;
 }
 
+// The multi-start on at most options.start_samples samples (no covariance).
+SolveReport CoarseFit(Structure s, const StepRecording& rec, const RecordingAnalysis& a,
+                      const FitOptions& options, const std::vector<double>& seed,
+                      const std::vector<bool>& fixed, const std::vector<double>& lo,
+                      const std::vector<double>& hi) {
+  const size_t n = rec.t.size();
+  const size_t stride =
+      std::max<size_t>(1, (n + options.start_samples - 1) / options.start_samples);
+  Prepared coarse = Prepare(rec, a.input_baseline, stride);
+  SolveOptions so;
+  so.max_iterations = 50;
+  so.compute_covariance = false;
+  OutputErrorProblem cpb = coarse.problem();
+  cpb.structure = s;
+  return SolveMultiStart(cpb, StartingValues(s, rec, a, seed), fixed, lo, hi, so);
+}
+
+// Starting values for a richer structure from a simpler one fitted on the thinned copy only.
+FitResult SeedFit(Structure s, const StepRecording& rec, const RecordingAnalysis& a,
+                  const FitOptions& options) {
+  std::vector<double> lo, hi;
+  Bounds(s, a.sample_period, rec.t.back() - rec.t.front(), lo, hi);
+  std::vector<bool> fixed(FullParameterCount(s), false);
+  fixed[DriftIndex(s)] = s != Structure::kIntegrating;
+  std::vector<double> seed;
+  if (s == Structure::kSopdt) seed = SeedFit(Structure::kFopdt, rec, a, options).values;
+  SolveReport r = CoarseFit(s, rec, a, options, seed, fixed, lo, hi);
+  FitResult f;
+  f.structure = s;
+  f.values.assign(r.x.begin(), r.x.begin() + ParameterCount(s));
+  Canonicalize(s, f.values);
+  return f;
+}
+
 }  // namespace
 
 double StudentQuantile(double p, double dof) {
@@ -179,20 +213,12 @@ FitResult FitStructure(Structure s, const StepRecording& rec, const RecordingAna
   fixed[DriftIndex(s)] = s != Structure::kIntegrating;
 
   // Multi-start on a thinned copy, then the polish on every sample.
-  const size_t stride =
-      std::max<size_t>(1, (n + options.start_samples - 1) / options.start_samples);
-  Prepared coarse = Prepare(rec, a.input_baseline, stride);
-  Prepared full = Prepare(rec, a.input_baseline, 1);
-  std::vector<std::vector<double>> starts =
-      StartingValues(s, rec, a, seed ? seed->values : std::vector<double>{});
+  SolveReport best =
+      CoarseFit(s, rec, a, options, seed ? seed->values : std::vector<double>{}, fixed, lo, hi);
   SolveOptions so;
-  so.max_iterations = 50;
-  so.compute_covariance = false;
-  OutputErrorProblem cpb = coarse.problem();
-  cpb.structure = s;
-  SolveReport best = SolveMultiStart(cpb, starts, fixed, lo, hi, so);
   so.max_iterations = options.max_iterations;
   so.compute_covariance = true;
+  Prepared full = Prepare(rec, a.input_baseline, 1);
   OutputErrorProblem fpb = full.problem();
   fpb.structure = s;
   SolveReport report = SolveOutputError(fpb, best.x, fixed, lo, hi, so);
@@ -370,8 +396,8 @@ Identification Identify(const StepRecording& recording, const FitOptions& option
     FitResult seed;
     const FitResult* seed_ptr = nullptr;
     if (s != Structure::kFopdt) {
-      seed = FitStructure(s == Structure::kSopdtZero ? Structure::kSopdt : Structure::kFopdt, rec,
-                          a, options);
+      seed = SeedFit(s == Structure::kSopdtZero ? Structure::kSopdt : Structure::kFopdt, rec, a,
+                     options);
       seed_ptr = &seed;
     }
     id.model = FitStructure(s, rec, a, options, seed_ptr);
