@@ -2,7 +2,7 @@
 //
 //   loopwright fit REC.csv [--time C --input C --output C --time-unit U]
 //                  [--structure auto|fopdt|sopdt|underdamped|integrating|sopdt-zero]
-//                  [--window T0:T1] [--robust [--loss huber|cauchy]] [-o MODEL.json] [--json]
+//                  [--window T0:T1] [--robust [--loss huber|cauchy]] [-o MODEL.json] [--json] [--plot FIG.svg]
 //   loopwright fit REC.csv --step-at T --step-size A ...   (no input column: a known step)
 //
 // Prints the parameters with 95 % intervals, the fit percentage, the criterion and warnings
@@ -16,6 +16,7 @@
 
 #include "app/column_options.h"
 #include "app/command.h"
+#include "app/fit_plot.h"
 #include "app/output.h"
 #include "identify/fit.h"
 #include "identify/structure_selection.h"
@@ -124,6 +125,7 @@ class FitCommand : public Command {
     sub.add_option("--step-size", step_size_, "No input column: the step's size");
     sub.add_option("-o,--out", out_path_, "Write the model file (JSON) here");
     sub.add_flag("--json", json_, "Print one JSON document instead of text");
+    sub.add_option("--plot", plot_path_, "Draw the fit over the recording (.svg, .png or .pdf)");
   }
 
   int Run(Context& ctx) override {
@@ -164,6 +166,7 @@ class FitCommand : public Command {
     }
     nlohmann::json doc = ResultJson(id);
     if (!out_path_.empty()) WriteModel(ctx, id, doc);
+    if (!plot_path_.empty()) WriteFitPlot(plot_path_, path_, data, id);
     if (json_) {
       PrintJson(ctx, doc);
     } else {
@@ -242,6 +245,7 @@ class FitCommand : public Command {
   std::string loss_ = "huber";
   std::optional<double> step_at_, step_size_;
   std::string out_path_;
+  std::string plot_path_;
   bool json_ = false;
 };
 

@@ -39,6 +39,29 @@ struct SvgProbe {
     }
     return n;
   }
+  // <polyline> elements stroked in `colour` that are lines, not filled areas (PLplot writes a
+  // filled area as a polyline with a fill; a small one may carry a stroke too).
+  std::vector<const SvgElement*> Lines(const std::string& colour) const {
+    std::vector<const SvgElement*> out;
+    for (const auto& e : elements) {
+      auto stroke = e.attributes.find("stroke");
+      auto fill = e.attributes.find("fill");
+      if (e.name == "polyline" && stroke != e.attributes.end() && stroke->second == colour &&
+          fill != e.attributes.end() && fill->second == "none")
+        out.push_back(&e);
+    }
+    return out;
+  }
+  // The number of points of all those lines.
+  size_t LinePoints(const std::string& colour) const {
+    size_t n = 0;
+    for (const SvgElement* e : Lines(colour)) {
+      auto points = e->attributes.find("points");
+      if (points != e->attributes.end())
+        for (char c : points->second) n += c == ',';
+    }
+    return n;
+  }
   bool HasText(const std::string& s) const {
     for (const auto& t : texts)
       if (t.find(s) != std::string::npos) return true;

@@ -38,16 +38,8 @@ lw::test::SvgProbe DrawAndProbe(const lw::test::TempDir& dir, const std::string&
 size_t Polygons(const lw::test::SvgProbe& p, lw::Ink ink) {
   return p.Count("polyline", "fill", lw::InkHex(ink));
 }
-// Stroked lines only (a small filled area may carry a stroke of its own colour too).
 size_t Polylines(const lw::test::SvgProbe& p, lw::Ink ink) {
-  size_t n = 0;
-  for (const auto& e : p.elements) {
-    auto stroke = e.attributes.find("stroke");
-    auto fill = e.attributes.find("fill");
-    n += e.name == "polyline" && stroke != e.attributes.end() &&
-         stroke->second == lw::InkHex(ink) && fill != e.attributes.end() && fill->second == "none";
-  }
-  return n;
+  return p.Lines(lw::InkHex(ink)).size();
 }
 
 lw::LocusFigureData SecondOrderLocus() {

@@ -44,19 +44,7 @@ size_t PolylinesIn(const lw::test::SvgProbe& p, lw::Ink ink) {
   return p.Count("polyline", "stroke", lw::InkHex(ink));
 }
 
-// Number of points in all polylines stroked with `ink`.
-size_t PointsIn(const lw::test::SvgProbe& p, lw::Ink ink) {
-  size_t n = 0;
-  for (const auto& e : p.elements) {
-    auto stroke = e.attributes.find("stroke");
-    auto points = e.attributes.find("points");
-    if (e.name != "polyline" || stroke == e.attributes.end() || points == e.attributes.end() ||
-        stroke->second != lw::InkHex(ink))
-      continue;
-    for (char c : points->second) n += c == ',';
-  }
-  return n;
-}
+size_t PointsIn(const lw::test::SvgProbe& p, lw::Ink ink) { return p.LinePoints(lw::InkHex(ink)); }
 
 }  // namespace
 
