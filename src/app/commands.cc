@@ -8,6 +8,7 @@ namespace lw::app {
 std::unique_ptr<Command> MakeSimulateCommand();
 std::unique_ptr<Command> MakeFitCommand();
 std::unique_ptr<Command> MakeBandCommand();
+std::unique_ptr<Command> MakeReportCommand();
 
 const std::vector<CommandEntry>& CommandTable() {
   static const std::vector<CommandEntry> table = {
@@ -17,6 +18,8 @@ const std::vector<CommandEntry>& CommandTable() {
        MakeFitCommand},
       {"band", "Find every controller gain that meets response specs (locus, response, robust)",
        MakeBandCommand},
+      {"report", "Assemble one self-contained HTML page from saved results and figures",
+       MakeReportCommand},
   };
   return table;
 }
