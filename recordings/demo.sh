@@ -53,4 +53,16 @@ echo "model file: heater_zone_model.json (parameters, covariance, provenance)"
 # ---- next steps go here (h4: `fit` of heater_zone_step.csv; h5: `band`, then `predict`) ----
 # Pattern: banner "what this step shows"; run "$bin" COMMAND ...; files go to "$out".
 
+# ---- figures and the report (h7): keep this the last step ----
+banner "draw the fit over the recording and assemble the one-page HTML report"
+run "$bin" fit "$out/heater_zone_step.csv" --plot "$out/heater_zone_fit.svg"
+report_inputs=("$out/heater_zone_model.json")
+for f in "$out"/*_band.json "$out"/*_prediction.json "$out"/*.svg; do
+  [ -f "$f" ] && report_inputs+=("$f")
+done
+run "$bin" report "${report_inputs[@]}" --title "Extruder heater zone tuning (synthetic demo)" \
+  -o "$out/report.html"
+echo "figure: $out/heater_zone_fit.svg"
+echo "report: $out/report.html (self-contained; open it in a browser or print it on A4)"
+
 printf '\ndemo done: files in %s\n' "$out"
