@@ -18,8 +18,6 @@ struct Piece {
   BandEdge lo_edge, hi_edge;
 };
 
-double LogPoint(double lo, double hi, double f) { return lo * std::pow(hi / lo, f); }
-
 // Bisection in log K between a gain with verdict `va` and one with the opposite verdict.
 double LocateSwitch(const std::function<PoleVerdict(double)>& judge, double a, double b, bool va) {
   for (int it = 0; it < 200 && b / a - 1.0 > 1e-12; ++it) {
@@ -86,25 +84,40 @@ LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
     double lo = bounds[i].gain, hi = bounds[i + 1].gain;
     double jl = lo > 0.0 ? lo : (std::isfinite(hi) ? hi * 1e-3 : ref * 1e-3);
     double jh = std::isfinite(hi) ? hi : (lo > 0.0 ? lo * 1e3 : ref * 1e3);
-    const double fr[3] = {0.02, 0.5, 0.98};
-    double g[3];
-    bool v[3];
-    for (int k = 0; k < 3; ++k) {
-      g[k] = LogPoint(jl, jh, fr[k]);
-      v[k] = judge(g[k]).meets;
-    }
-    // Split at switches between disagreeing samples.
+    // March through the interval in log K, with steps small enough that the gap between the
+    // dominant pole and the next one cannot close unseen (secant prediction of the gap, a third
+    // of the way to zero, at most a factor 2 in K), and split it where the verdict changes.
+    const double x_end = std::log(jh), span = x_end - std::log(jl);
+    double x = std::log(jl) + 1e-7 * span;
+    const double x_stop = x_end - 1e-7 * span;
+    PoleVerdict prev = judge(std::exp(x));
     std::vector<Piece> local;
-    local.push_back({lo, hi, v[0], bounds[i], bounds[i + 1]});
-    for (int k = 0; k < 2; ++k) {
-      if (v[k] == v[k + 1]) continue;
-      double sw = LocateSwitch(judge, g[k], g[k + 1], v[k]);
-      BandEdge e = EdgeAt(judge, sw, Boundary::kDominanceSwitch, nan_pole);
-      local.back().hi = sw;
-      local.back().hi_edge = e;
-      local.push_back({sw, hi, v[k + 1], e, bounds[i + 1]});
+    local.push_back({lo, hi, prev.meets, bounds[i], bounds[i + 1]});
+    double step = std::min(0.05, x_stop - x), slope = 0.0;
+    for (int it = 0; it < 4000 && x < x_stop; ++it) {
+      double x1 = std::min(x + step, x_stop);
+      PoleVerdict cur = judge(std::exp(x1));
+      if (cur.meets != prev.meets) {
+        double sw = LocateSwitch(judge, std::exp(x), std::exp(x1), prev.meets);
+        BandEdge e = EdgeAt(judge, sw, Boundary::kDominanceSwitch, nan_pole);
+        local.back().hi = sw;
+        local.back().hi_edge = e;
+        local.push_back({sw, hi, cur.meets, e, bounds[i + 1]});
+      }
+      if (std::isfinite(cur.gap) && std::isfinite(prev.gap)) {
+        slope = std::abs(cur.gap - prev.gap) / (x1 - x);
+      } else {
+        slope = 0.0;
+      }
+      double scale = std::max(1e-12, std::abs(cur.dominant.real()));
+      step = 0.7;
+      if (std::isfinite(cur.gap) && slope > 0.0) {
+        step = std::clamp(cur.gap / (3.0 * slope), 1e-5, 0.7);
+      }
+      if (std::isfinite(cur.gap) && cur.gap < 1e-9 * scale) step = 1e-5;
+      x = x1;
+      prev = cur;
     }
-    if (local.size() == 1) local.back().meets = v[1];
     pieces.insert(pieces.end(), local.begin(), local.end());
   }
   for (const Piece& p : pieces) {

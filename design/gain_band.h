@@ -7,10 +7,12 @@
 //  2. between two consecutive such gains no pole crosses a boundary, so each pole's membership
 //     of the region is fixed; the verdict can still change where the dominant pole changes
 //     identity (two poles with equal real parts, e.g. a slow real pole overtaken by a pair).
-//     Each interval is therefore judged by JudgePoles at three gains (2 %, 50 % and 98 % of its
-//     width in log K; the middle one decides when all agree), and a disagreement is located by
-//     bisection in log K to 1e-12 relative as a "dominance switch" edge. (A switch and a switch
-//     back between two of those three gains would be missed; the response band is the check.)
+//     Each interval is therefore marched through in log K: after each judged gain the next
+//     step is a third of what the secant of the gap (pole_verdict.h: the dominant pole's real
+//     part minus the next pole's) predicts it needs to close, at most a factor 2 in K and at
+//     least 1e-5 in log K, so two poles cannot trade the dominant role and trade it back between
+//     two judged gains unless the gap closes faster than its secant says. Where the verdict
+//     changes, bisection in log K to 1e-12 relative makes a "dominance switch" edge.
 //  3. consecutive meeting intervals are merged into the band: a union of ranges [lo, hi], each
 //     edge with its gain, the boundary that made it, the pole on that boundary and the dominant
 //     pole there.

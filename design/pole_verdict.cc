@@ -42,6 +42,20 @@ PoleVerdict JudgePoles(const std::vector<std::complex<double>>& poles, const Reg
   std::complex<double> s = poles[dom];
   v.dominant = {s.real(), std::abs(s.imag())};
   v.shape = ShapeOf(v.dominant);
+  {
+    const double tol = 1e-9 * std::max(1.0, std::abs(s));
+    bool conj_seen = s.imag() == 0.0;
+    double next = -std::numeric_limits<double>::infinity();
+    for (size_t i = 0; i < poles.size(); ++i) {
+      if (i == dom) continue;
+      if (!conj_seen && std::abs(poles[i] - std::conj(s)) <= tol) {
+        conj_seen = true;
+        continue;
+      }
+      next = std::max(next, poles[i].real());
+    }
+    v.gap = s.real() - next;
+  }
   if (s.real() >= 0.0) {
     v.failure = Failure::kUnstable;
     return v;

@@ -24,6 +24,9 @@ struct PoleVerdict {
   Failure failure = Failure::kNone;
   std::complex<double> dominant;  // the dominant pole, Im >= 0 (NaN when there are no poles)
   PoleShape shape;                // of the dominant pole
+  // Re(dominant) - Re(the next pole that is not the dominant one or its conjugate), >= 0: how
+  // far the dominant role is from changing hands; +inf with a single real pole or pair.
+  double gap = 0.0;
 };
 
 PoleVerdict JudgePoles(const std::vector<std::complex<double>>& poles, const Region& region);

@@ -8,6 +8,7 @@ namespace lw::app {
 std::unique_ptr<Command> MakeSimulateCommand();
 std::unique_ptr<Command> MakeFitCommand();
 std::unique_ptr<Command> MakeBandCommand();
+std::unique_ptr<Command> MakePredictCommand();
 std::unique_ptr<Command> MakeReportCommand();
 
 const std::vector<CommandEntry>& CommandTable() {
@@ -18,6 +19,8 @@ const std::vector<CommandEntry>& CommandTable() {
        MakeFitCommand},
       {"band", "Find every controller gain that meets response specs (locus, response, robust)",
        MakeBandCommand},
+      {"predict", "Predict the closed loop at one gain: poles, margins, step response, effort",
+       MakePredictCommand},
       {"report", "Assemble one self-contained HTML page from saved results and figures",
        MakeReportCommand},
   };

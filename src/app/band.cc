@@ -1,0 +1,365 @@
+// `loopwright band (MODEL.json | --plant FORMULA) [--controller C] [specs...] [--pade N]
+//                  [--sample-time T] [--draws N] [--seed N] [--json] [-o BAND.json]`
+//
+// Every controller gain that meets the response specs: the exact locus band (dominant-pole
+// region, design/gain_band.h), the simulated response band (exact dead time,
+// design/response_band.h), the robust band over parameter draws when the model file carries a
+// covariance (design/robust_band.h), optionally the band of the sampled loop, and the
+// recommended gain (design/recommendation.h). Exit 1 with one sentence when no gain meets the
+// specs.
+#include <cmath>
+#include <cstdio>
+#include <memory>
+#include <optional>
+#include <random>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include <Eigen/Cholesky>
+#include <Eigen/Eigenvalues>
+#include <nlohmann/json.hpp>
+
+#include "app/command.h"
+#include "app/controller_option.h"
+#include "app/model_source.h"
+#include "app/output.h"
+#include "app/spec_options.h"
+#include "design/discrete_band.h"
+#include "design/gain_band.h"
+#include "design/infeasibility.h"
+#include "design/recommendation.h"
+#include "design/response_band.h"
+#include "design/robust_band.h"
+#include "identify/model_structure.h"
+#include "io/atomic_file.h"
+#include "lti/error.h"
+
+namespace lw::app {
+namespace {
+
+using nlohmann::json;
+
+// Plants drawn from the model's parameter covariance: p = p0 + L z, z ~ N(0, I) seeded, L a
+// square root of the covariance (eigen-decomposition, negative eigenvalues from rounding set to
+// zero); draws outside the structure's physical rules are redrawn (up to 20 times as many tries).
+std::vector<TransferFunction> DrawPlants(const ModelDocument& doc, int n, unsigned seed,
+                                         std::string& note) {
+  Structure s = ParseStructure(doc.structure);
+  const Eigen::Index m = static_cast<Eigen::Index>(doc.parameters.size());
+  Eigen::VectorXd p0(m);
+  for (Eigen::Index i = 0; i < m; ++i) p0(i) = doc.parameters[static_cast<size_t>(i)].value;
+  Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> es(doc.covariance);
+  Eigen::VectorXd ev = es.eigenvalues().cwiseMax(0.0).cwiseSqrt();
+  Eigen::MatrixXd root = es.eigenvectors() * ev.asDiagonal();
+  std::mt19937_64 rng(seed);
+  std::normal_distribution<double> normal(0.0, 1.0);
+  std::vector<TransferFunction> out;
+  int tries = 0;
+  while (static_cast<int>(out.size()) < n && tries < 20 * n) {
+    ++tries;
+    Eigen::VectorXd z(m);
+    for (Eigen::Index i = 0; i < m; ++i) z(i) = normal(rng);
+    Eigen::VectorXd p = p0 + root * z;
+    std::vector<double> v(p.data(), p.data() + m);
+    if (!IsPhysical(s, v)) continue;
+    out.push_back(StructureTransferFunction(s, v));
+  }
+  if (tries > n) {
+    note = std::to_string(tries - n) + " of " + std::to_string(tries) +
+           " draws broke the structure's physical rules and were drawn again";
+  }
+  return out;
+}
+
+json RangesJson(const GainSet& set) {
+  json a = json::array();
+  for (const GainRange& r : set) a.push_back({JsonNumber(r.lo), JsonNumber(r.hi)});
+  return a;
+}
+
+json PoleJson(std::complex<double> p) {
+  if (!std::isfinite(p.real()) || !std::isfinite(p.imag())) return nullptr;
+  return {p.real(), p.imag()};
+}
+
+json EdgeJson(const BandEdge& e) {
+  json j = {{"gain", JsonNumber(e.gain)},
+            {"boundary", BoundaryKey(e.boundary)},
+            {"pole", PoleJson(e.pole)},
+            {"dominant", PoleJson(e.dominant)}};
+  if (std::isfinite(e.dominant.real())) {
+    PoleShape s = ShapeOf(e.dominant);
+    j["dominant_zeta"] = s.zeta;
+    j["dominant_wn"] = s.wn;
+  }
+  return j;
+}
+
+json LocusEdgesJson(const LocusBand& band) {
+  json a = json::array();
+  for (const auto& iv : band.intervals)
+    a.push_back({{"lo", EdgeJson(iv.lo)}, {"hi", EdgeJson(iv.hi)}});
+  return a;
+}
+
+std::string PoleText(std::complex<double> p) {
+  if (!std::isfinite(p.real())) return "";
+  std::string s = FormatNumber(p.real(), 4);
+  if (std::abs(p.imag()) > 1e-12 * std::abs(p)) s += " ± j" + FormatNumber(std::abs(p.imag()), 4);
+  return s;
+}
+
+std::string EdgeText(const BandEdge& e) {
+  if (e.boundary == Boundary::kGainZero) return "from K = 0";
+  if (e.boundary == Boundary::kUnbounded) return "no upper limit";
+  std::string s = BoundaryName(e.boundary);
+  if (std::isfinite(e.pole.real())) s += " at s = " + PoleText(e.pole);
+  if (std::isfinite(e.dominant.real())) {
+    PoleShape d = ShapeOf(e.dominant);
+    s += " (dominant zeta " + FormatNumber(d.zeta, 3) + ", wn " + FormatNumber(d.wn, 3) + ")";
+  }
+  return s;
+}
+
+bool SameWithin(const GainSet& x, const GainSet& y, double rel) {
+  if (x.size() != y.size()) return false;
+  auto close = [&](double a, double b) {
+    if (std::isinf(a) || std::isinf(b)) return a == b;
+    return std::abs(a - b) <= rel * std::max(std::abs(a), std::abs(b));
+  };
+  for (size_t i = 0; i < x.size(); ++i) {
+    if (!close(x[i].lo, y[i].lo) || !close(x[i].hi, y[i].hi)) return false;
+  }
+  return true;
+}
+
+// Why the locus and response bands differ, one sentence per cause present in this loop.
+std::vector<std::string> Differences(const TransferFunction& plant, const Controller& controller,
+                                     const Specs& specs, const LoopPolynomials& loop,
+                                     const LocusBand& locus, const ResponseBand& response) {
+  std::vector<std::string> notes;
+  if (SameWithin(locus.gains(), response.gains(), 0.02)) {
+    notes.push_back("the locus and response bands agree within 2 %");
+    return notes;
+  }
+  notes.push_back("the bands differ: the region is a second-order picture of the dominant pair;");
+  std::vector<std::string> zeros;
+  for (const auto& z : (controller.Shape() * plant.Rational()).zeros()) {
+    if (std::abs(z) < 1e6 && z.real() > -1e6 && z.imag() >= 0.0) zeros.push_back(PoleText(z));
+  }
+  if (!zeros.empty()) {
+    std::string list;
+    for (size_t i = 0; i < zeros.size(); ++i) list += (i ? ", " : "") + zeros[i];
+    notes.push_back("the zeros of the controller and plant (s = " + list +
+                    ") add overshoot and speed the rise, which the region ignores");
+  }
+  if (plant.delay() > 0.0) {
+    notes.push_back("the locus sees the " + FormatQuantity(plant.delay(), "s") +
+                    " dead time through Padé order " + std::to_string(loop.pade_order) +
+                    ", the simulated response sees it exactly");
+  }
+  GainSet where = locus.empty() ? response.gains() : locus.gains();
+  if (!where.empty()) {
+    double k = GeometricMiddle(Widest(where));
+    auto poles = loop.PolesAt(k);
+    double dom = -JudgePoles(poles, Region{}).dominant.real();
+    double next = INFINITY;
+    for (const auto& p : poles) {
+      if (-p.real() > dom * (1 + 1e-9)) next = std::min(next, -p.real());
+    }
+    if (dom > 0 && std::isfinite(next) && next < 3.0 * dom) {
+      notes.push_back("at K = " + FormatNumber(k, 3) + " the next pole decays only " +
+                      FormatNumber(next / dom, 2) +
+                      " times faster than the dominant one, so the response is not second order");
+    }
+  }
+  if (specs.rise_max || specs.wn_min) {
+    notes.push_back("the rise-time bound wn >= 1.8/tr is a rule of thumb, exact at no zeta");
+  }
+  if (specs.settle_max) {
+    notes.push_back(
+        "the settling bound sigma >= 4/ts (or 4.6/ts) uses the decay envelope, "
+        "which is conservative for the actual response");
+  }
+  return notes;
+}
+
+class BandCommand : public Command {
+ public:
+  void Configure(CLI::App& sub) override {
+    source_.Add(sub);
+    controller_.Add(sub, /*gain_required=*/false, /*with_gain=*/false);
+    specs_.Add(sub);
+    sub.add_option("--sample-time", sample_time_,
+                   "Also the band of the loop sampled with a zero-order hold every T s");
+    sub.add_option("--draws", draws_, "Parameter draws for the robust band (>= 500)")
+        ->capture_default_str();
+    sub.add_option("--seed", seed_, "Seed of the parameter draws")->capture_default_str();
+    sub.add_flag("--json", json_, "Print one JSON document instead of text");
+    sub.add_option("-o,--out", out_path_, "Also write the bands and specs to this JSON file");
+  }
+
+  int Run(Context& ctx) override {
+    LoadedModel model = source_.Load();
+    Controller controller = controller_.Parse();
+    Specs specs = specs_.Get();
+    const int pade = specs_.pade();
+    if (draws_ < 500) {
+      throw UsageError("--draws " + std::to_string(draws_) +
+                       ": the robust band needs at least 500 parameter draws");
+    }
+    if (sample_time_ && !(std::isfinite(*sample_time_) && *sample_time_ > 0.0)) {
+      throw UsageError("--sample-time " + FormatNumber(*sample_time_) +
+                       ": the sample time must be a number > 0 (s)");
+    }
+    const TransferFunction& plant = model.tf;
+    const Region region = specs.ToRegion();
+    LoopPolynomials loop = LoopPolynomials::ForGain(plant, controller, pade);
+    LocusBand locus = FindLocusBand(loop, region);
+    ResponseBandOptions ro;
+    ro.pade_order = pade;
+    ResponseBand response = FindResponseBand(plant, controller, specs, ro);
+
+    std::optional<GainSet> robust;
+    std::string robust_note;
+    int draws_used = 0;
+    if (model.model && model.model->covariance.size() > 0) {
+      try {
+        std::vector<TransferFunction> draws = DrawPlants(*model.model, draws_, seed_, robust_note);
+        RobustBandOptions rbo;
+        rbo.pade_order = pade;
+        rbo.min_draws = 500;
+        RobustBand rb = FindRobustBand(draws, controller, region, rbo);
+        robust = rb.gains;
+        draws_used = rb.draws;
+      } catch (const UsageError& e) {
+        robust_note = std::string("no robust band: ") + e.what();
+      }
+    } else {
+      robust_note = model.model ? "the model file has no covariance, so there is no robust band"
+                                : "a plant formula has no covariance, so there is no robust band";
+    }
+
+    std::optional<DiscreteBand> discrete;
+    if (sample_time_) {
+      discrete = FindDiscreteBand(plant, controller, region, *sample_time_, locus.gains());
+    }
+
+    if (locus.empty() && response.empty()) {
+      Infeasibility why = DiagnoseInfeasible(loop, region);
+      throw JobFailed(why.sentence);
+    }
+    Recommendation rec = Recommend(locus.gains(), response.gains(), robust);
+
+    json doc;
+    doc["bands"] = {{"locus", RangesJson(locus.gains())},
+                    {"response", RangesJson(response.gains())},
+                    {"robust", robust ? RangesJson(*robust) : json(nullptr)}};
+    if (discrete) doc["bands"]["discrete"] = RangesJson(discrete->band.gains());
+    doc["recommended_gain"] = JsonNumber(rec.gain);
+    doc["recommendation"] = {{"from", rec.source}, {"rule", rec.reason}};
+    doc["region"] = RegionJson(region);
+    doc["specs"] = SpecsJson(specs);
+    doc["controller"] = controller.ToString();
+    doc["plant"] = plant.ToString();
+    doc["pade_order"] = loop.pade_order;
+    doc["edges"] = {{"locus", LocusEdgesJson(locus)}, {"response", json::array()}};
+    for (const auto& r : response.ranges) {
+      doc["edges"]["response"].push_back(
+          {{"lo", {{"gain", JsonNumber(r.lo.gain)}, {"limiting", r.lo.limiting}}},
+           {"hi", {{"gain", JsonNumber(r.hi.gain)}, {"limiting", r.hi.limiting}}}});
+    }
+    if (robust) doc["robust_draws"] = draws_used;
+    if (discrete) {
+      doc["discrete"] = {{"sample_time", discrete->period},
+                         {"edges", LocusEdgesJson(discrete->band)},
+                         {"shrink_percent", JsonNumber(discrete->shrink_percent)}};
+    }
+    std::vector<std::string> differences =
+        Differences(plant, controller, specs, loop, locus, response);
+    doc["differences"] = differences;
+    if (!out_path_.empty()) {
+      json file = doc;
+      file["format"] = "loopwright-band";
+      file["version"] = 1;
+      file["model"] = model.description;
+      file["command_line"] = ctx.command_line;
+      WriteFileAtomically(out_path_, file.dump(2) + "\n");
+    }
+    if (json_) {
+      PrintJson(ctx, doc);
+      return 0;
+    }
+    std::ostream& out = ctx.out;
+    out << Bold(ctx, "band") << " for " << model.description << ", controller "
+        << controller.ToString() << "\n";
+    out << "  specs: " << specs.ToString() << "\n";
+    out << "  region for the dominant pole (the one nearest the imaginary axis): "
+        << region.ToString() << "\n";
+    if (specs.rise_max || specs.wn_min) {
+      out << "    (rise time through tr ~ 1.8/wn, a rule of thumb for 0.3 <= zeta <= 0.8)\n";
+    }
+    if (plant.delay() > 0.0) {
+      out << "  dead time " << FormatQuantity(plant.delay(), "s") << ": Padé order "
+          << loop.pade_order << " in the locus; exact in the simulated response\n";
+    }
+    out << "\n"
+        << Bold(ctx, "locus band") << " (dominant poles in the region): " << ToString(locus.gains())
+        << "\n";
+    for (const auto& iv : locus.intervals) {
+      out << "  " << ToString(GainSet{{iv.lo.gain, iv.hi.gain}}) << "\n"
+          << "    low edge:  " << EdgeText(iv.lo) << "\n"
+          << "    high edge: " << EdgeText(iv.hi) << "\n";
+    }
+    out << Bold(ctx, "response band")
+        << " (simulated step meets the specs): " << ToString(response.gains()) << "\n";
+    for (const auto& r : response.ranges) {
+      out << "  " << ToString(GainSet{{r.lo.gain, r.hi.gain}}) << ": ";
+      out << (r.lo.limiting.empty() ? "from K = 0" : r.lo.limiting + " fails below");
+      out << ", " << (r.hi.limiting.empty() ? "no upper limit" : r.hi.limiting + " fails above")
+          << "\n";
+    }
+    if (robust) {
+      out << Bold(ctx, "robust band") << " (95 % of " << draws_used
+          << " parameter draws meet the region): " << ToString(*robust) << "\n";
+    } else {
+      out << Bold(ctx, "robust band") << ": none (" << robust_note << ")\n";
+    }
+    if (robust && !robust_note.empty()) out << "  (" << robust_note << ")\n";
+    if (discrete) {
+      out << Bold(ctx, "sampled loop") << " (ZOH, T = " << FormatQuantity(discrete->period, "s")
+          << "): " << ToString(discrete->band.gains());
+      if (std::isfinite(discrete->shrink_percent)) {
+        out << ", " << FormatNumber(discrete->shrink_percent, 3)
+            << " % narrower than the locus band";
+      }
+      out << "\n";
+    }
+    if (locus.empty()) {
+      out << Caution(ctx, "no gain puts the dominant poles in the region: ")
+          << DiagnoseInfeasible(loop, region).sentence << "\n";
+    }
+    for (const std::string& d : differences) out << "  note: " << d << "\n";
+    out << "\n"
+        << Good(ctx, "recommended gain K = " + FormatNumber(rec.gain, 4)) << ": " << rec.reason
+        << "\n";
+    return 0;
+  }
+
+ private:
+  ModelSource source_;
+  ControllerOption controller_;
+  SpecOptions specs_;
+  std::optional<double> sample_time_;
+  int draws_ = 500;
+  unsigned seed_ = 1;
+  bool json_ = false;
+  std::string out_path_;
+};
+
+}  // namespace
+
+std::unique_ptr<Command> MakeBandCommand() { return std::make_unique<BandCommand>(); }
+
+}  // namespace lw::app

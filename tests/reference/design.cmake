@@ -1,0 +1,6 @@
+# Reference checks of the gain-band designer (design/, `loopwright band`): a brute-force
+# numpy.roots sweep of 20 000 gains against the exact locus band edges.
+add_test(NAME design_band_vs_numpy_sweep
+         COMMAND ${LOOPWRIGHT_PYTHON} ${CMAKE_CURRENT_LIST_DIR}/design_sweep.py
+                 $<TARGET_FILE:loopwright>)
+set_tests_properties(design_band_vs_numpy_sweep PROPERTIES TIMEOUT 120)
