@@ -1,0 +1,162 @@
+// Fit options that change what data the fit sees or how it weighs it: the robust losses, the
+// time window, the known-step mode without an input column, and decimation of long records.
+// Data come from the first-order step response in closed form (written out below), not from
+// the library's own kernel.
+#include <doctest/doctest.h>
+
+#include <cmath>
+#include <random>
+#include <string>
+#include <vector>
+
+#include "identify/fit.h"
+#include "identify/preprocess.h"
+#include "lti/error.h"
+
+namespace {
+
+using lw::Structure;
+
+struct FirstOrder {
+  double gain, tau, dead;
+};
+
+// Closed-form first-order step response: y(t) = base + K du (1 - exp(-(t - ts - T)/tau)) for
+// t > ts + T, else base. The input is held at du from the first sample at or after ts.
+lw::StepRecording ClosedFormStep(const FirstOrder& p, double h, size_t n, double ts, double du,
+                                 double base, double noise_sd, unsigned seed) {
+  lw::StepRecording r;
+  std::mt19937_64 gen(seed);
+  std::normal_distribution<double> noise(0.0, 1.0);
+  for (size_t i = 0; i < n; ++i) {
+    const double t = h * static_cast<double>(i);
+    const double s = t - ts - p.dead;
+    const double y = base + (s > 0 ? p.gain * du * (1 - std::exp(-s / p.tau)) : 0.0);
+    r.t.push_back(t);
+    r.u.push_back(t >= ts - 1e-12 ? du : 0.0);
+    r.y.push_back(y + noise_sd * noise(gen));
+  }
+  return r;
+}
+
+double RelErr(double got, double want) { return std::abs(got - want) / std::abs(want); }
+
+bool HasWarning(const lw::Identification& id, const std::string& part) {
+  for (const auto& w : id.warnings) {
+    if (w.find(part) != std::string::npos) return true;
+  }
+  return false;
+}
+
+}  // namespace
+
+TEST_CASE("robust Huber and Cauchy fits resist spikes that pull the plain fit off") {
+  const FirstOrder truth{2.5, 3.0, 0.8};
+  lw::StepRecording rec = ClosedFormStep(truth, 0.05, 600, 2.0, 1.0, 0.4, 0.01, 17);
+  // A few large one-sample spikes late in the response, all upwards (a sensor glitch).
+  for (size_t k : {330u, 380u, 420u, 470u, 520u, 560u}) rec.y[k] += 3.0;
+
+  lw::FitOptions plain;
+  plain.structure = "fopdt";
+  lw::Identification p = lw::Identify(rec, plain);
+  const double plain_gain_err = RelErr(p.model.values[0], truth.gain);
+  // The spikes lift the settled level: the plain least-squares gain is off by more than 1 %.
+  CHECK(plain_gain_err > 0.01);
+  CHECK(HasWarning(p, "outliers"));
+
+  for (auto loss : {lw::FitOptions::Robust::kHuber, lw::FitOptions::Robust::kCauchy}) {
+    CAPTURE(static_cast<int>(loss));
+    lw::FitOptions robust = plain;
+    robust.robust = loss;
+    lw::Identification r = lw::Identify(rec, robust);
+    REQUIRE(r.model.converged);
+    CHECK(RelErr(r.model.values[0], truth.gain) < 0.005);
+    CHECK(RelErr(r.model.values[1], truth.tau) < 0.02);
+    CHECK(std::abs(r.model.values[2] - truth.dead) < 0.05);  // one sample period
+    CHECK(RelErr(r.model.values[0], truth.gain) < 0.5 * plain_gain_err);
+  }
+}
+
+TEST_CASE("window keeps only the samples inside it") {
+  const FirstOrder truth{1.8, 2.0, 0.5};
+  lw::StepRecording rec = ClosedFormStep(truth, 0.1, 400, 5.0, 2.0, -1.0, 0.0, 1);
+  // Garbage outside the window: a second, unrelated input move and a wild output after t = 30.
+  for (size_t i = 0; i < rec.t.size(); ++i) {
+    if (rec.t[i] > 30.0) {
+      rec.u[i] = -5.0;
+      rec.y[i] = 100.0 + static_cast<double>(i % 7);
+    }
+  }
+  lw::FitOptions o;
+  o.structure = "fopdt";
+  o.window_start = 1.0;
+  o.window_end = 30.0;
+  lw::Identification id = lw::Identify(rec, o);
+  // Samples t = 1.0, 1.1, ..., 30.0 (grid 0.1 h): 291 of them.
+  size_t inside = 0;
+  for (double t : rec.t) inside += (t >= 1.0 && t <= 30.0) ? 1 : 0;
+  CHECK(inside == 291);
+  CHECK(id.samples_in == inside);
+  CHECK(id.model.samples == inside);
+  CHECK(id.analysis.steps.size() == 1);
+  CHECK(RelErr(id.model.values[0], truth.gain) < 1e-3);
+  CHECK(RelErr(id.model.values[1], truth.tau) < 1e-3);
+  CHECK(std::abs(id.model.values[2] - truth.dead) < 1e-3);
+
+  lw::FitOptions tiny = o;
+  tiny.window_start = 10.0;
+  tiny.window_end = 10.5;  // 6 samples
+  CHECK_THROWS_AS(lw::Identify(rec, tiny), lw::UsageError);
+}
+
+TEST_CASE("known step without an input column: step at and size from the user") {
+  const FirstOrder truth{0.75, 1.5, 0.3};
+  const double step_at = 2.0, step_size = 4.0, h = 0.02;
+  lw::StepRecording rec = ClosedFormStep(truth, h, 800, step_at, step_size, 10.0, 0.0, 2);
+  std::vector<double> u = lw::KnownStepInput(rec.t, step_at, step_size);
+  REQUIRE(u.size() == rec.t.size());
+  for (size_t i = 0; i < u.size(); ++i) {
+    CHECK(u[i] == (rec.t[i] >= step_at - 1e-12 ? step_size : 0.0));
+  }
+  // A step instant between samples holds from the next sample.
+  std::vector<double> v = lw::KnownStepInput(rec.t, 2.011, 1.0);
+  CHECK(v[100] == 0.0);  // t = 2.00
+  CHECK(v[101] == 1.0);  // t = 2.02
+
+  lw::StepRecording data{rec.t, u, rec.y};
+  lw::FitOptions o;
+  o.structure = "fopdt";
+  lw::Identification id = lw::Identify(data, o);
+  REQUIRE(id.model.converged);
+  CHECK(RelErr(id.model.values[0], truth.gain) < 1e-3);  // gain per unit of the known step
+  CHECK(RelErr(id.model.values[1], truth.tau) < 1e-3);
+  CHECK(std::abs(id.model.values[2] - truth.dead) < 1e-3);
+  CHECK(id.model.output_offset.value == doctest::Approx(10.0).epsilon(1e-6));
+}
+
+TEST_CASE("long records are decimated after the anti-alias filter, and say so") {
+  const FirstOrder truth{1.2, 2.0, 0.4};
+  const size_t n = 30000;
+  lw::StepRecording rec = ClosedFormStep(truth, 0.001, n, 1.0, 1.0, 0.0, 0.005, 5);
+  lw::FitOptions o;
+  o.structure = "fopdt";
+  o.decimate_to = 5000;
+  o.decimate_above = 10000;
+  lw::Identification id = lw::Identify(rec, o);
+  CHECK(id.decimation == 6);  // ceil(30000 / 5000)
+  CHECK(id.samples_in == n);
+  CHECK(id.model.samples == 5000);
+  CHECK(HasWarning(id, "decimated by 6"));
+  CHECK(HasWarning(id, "anti-alias"));
+  CHECK(RelErr(id.model.values[0], truth.gain) < 0.01);
+  CHECK(RelErr(id.model.values[1], truth.tau) < 0.02);
+  CHECK(std::abs(id.model.values[2] - truth.dead) < 0.006);  // one decimated sample period
+
+  // At the threshold nothing is decimated and nothing is said.
+  lw::FitOptions at = o;
+  at.decimate_above = n;
+  lw::Identification whole = lw::Identify(rec, at);
+  CHECK(whole.decimation == 1);
+  CHECK(whole.model.samples == n);
+  CHECK_FALSE(HasWarning(whole, "decimated"));
+}
