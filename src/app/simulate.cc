@@ -37,7 +37,7 @@
 #include "lti/simulate.h"
 #include "lti/step_metrics.h"
 
-namespace lw {
+namespace lw::app {
 namespace {
 
 constexpr long kMaxSamples = 50'000'000;
@@ -397,4 +397,4 @@ class SimulateCommand : public Command {
 
 std::unique_ptr<Command> MakeSimulateCommand() { return std::make_unique<SimulateCommand>(); }
 
-}  // namespace lw
+}  // namespace lw::app
