@@ -127,6 +127,7 @@ class OutputErrorCost : public ceres::CostFunction {
  public:
   OutputErrorCost(const OutputErrorProblem& pb, std::vector<double> base, std::vector<int> free)
       : pb_(pb), base_(std::move(base)), free_(std::move(free)) {
+    for (size_t c = 0; c < free_.size(); ++c) prefix_ = prefix_ && free_[c] == static_cast<int>(c);
     set_num_residuals(static_cast<int>(ResidualCount(pb)));
     mutable_parameter_block_sizes()->push_back(static_cast<int>(free_.size()));
   }
@@ -143,7 +144,9 @@ class OutputErrorCost : public ceres::CostFunction {
     auto sink = [&](size_t i, double r, const double* jrow) {
       residuals[i] = r;
       finite = finite && std::isfinite(r);
-      if (jrow) {
+      if (jrow && prefix_) {
+        std::copy_n(jrow, m, jac + i * m);  // the free parameters lead: one contiguous copy
+      } else if (jrow) {
         for (size_t c = 0; c < m; ++c) jac[i * m + c] = jrow[free_[c]];
       }
     };
@@ -155,6 +158,7 @@ class OutputErrorCost : public ceres::CostFunction {
   const OutputErrorProblem& pb_;
   std::vector<double> base_;
   std::vector<int> free_;
+  bool prefix_ = true;  // free_ is 0, 1, ..., m - 1
 };
 
 // r = R dx with a constant Jacobian R (R'R = J'J): the fit's linearisation compressed to
