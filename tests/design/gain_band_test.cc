@@ -165,3 +165,30 @@ TEST_CASE("a slow real pole overtaken by a pair gives a dominance-switch edge") 
 
 }  // namespace
 }  // namespace lw
+
+namespace lw {
+namespace {
+
+TEST_CASE("a real pole overtakes a pair and is overtaken back inside one interval") {
+  // Our own: 2/(s (0.5 s + 1)(0.05 s + 1)) with lead:3:15; the closed-loop real pole held near
+  // the zero at -3 becomes dominant near K = 18.8 and gives the role back near K = 27.3 (found
+  // by a numpy.roots sweep in tests/reference/design_sweep.py). With wd >= pi/3 the real pole
+  // fails, so both switches are edges.
+  LoopPolynomials loop = Loop((Polynomial({2.0}) * Polynomial({1.0, 3.0})).coefficients(),
+                              (Polynomial({1.0, 0.0}) * Polynomial({0.5, 1.0}) *
+                               Polynomial({0.05, 1.0}) * Polynomial({1.0, 15.0}))
+                                  .coefficients());
+  Region region;
+  region.wn_min = 1.5;
+  region.zeta_min = ZetaForOvershoot(30.0);
+  region.wd_min = std::numbers::pi / 3.0;
+  LocusBand band = FindLocusBand(loop, region);
+  REQUIRE(band.intervals.size() == 2);
+  CHECK(band.intervals[0].hi.boundary == Boundary::kDominanceSwitch);
+  CHECK(band.intervals[1].lo.boundary == Boundary::kDominanceSwitch);
+  CHECK(band.intervals[0].hi.gain == doctest::Approx(18.77).epsilon(2e-3));
+  CHECK(band.intervals[1].lo.gain == doctest::Approx(27.33).epsilon(2e-3));
+}
+
+}  // namespace
+}  // namespace lw
