@@ -47,15 +47,27 @@ run "$bin" simulate --plant "$zone" --controller pi:0.005 --gain 1.2 \
   -o "$out/heater_zone_closed_loop_dry_run.csv"
 
 banner "fit a model to the step test: every structure, chosen by AICc, with 95 % intervals"
-run "$bin" fit "$out/heater_zone_step.csv" -o "$out/heater_zone_model.json"
+run "$bin" fit "$out/heater_zone_step.csv" -o "$out/heater_zone_model.json" \
+  --plot "$out/heater_zone_fit.svg"
 echo "model file: heater_zone_model.json (parameters, covariance, provenance)"
 
-# ---- next steps go here (h4: `fit` of heater_zone_step.csv; h5: `band`, then `predict`) ----
-# Pattern: banner "what this step shows"; run "$bin" COMMAND ...; files go to "$out".
+banner "find every PI gain whose closed loop overshoots <= 10 % and settles (2 %) within 1000 s"
+run "$bin" band "$out/heater_zone_model.json" --controller pi:0.004 --overshoot-max 10 \
+  --settle-max 1000 -o "$out/heater_zone_band.json"
+
+banner "predict the loop at a gain inside the band, for a 150 -> 170 setpoint step, heater 0-100 %"
+run "$bin" predict "$out/heater_zone_model.json" --controller pi:0.004 --gain 0.46 \
+  --reference step:150:170:60 --duration 1500 --actuator 0:100
+# the same prediction saved as JSON for the report
+"$bin" predict "$out/heater_zone_model.json" --controller pi:0.004 --gain 0.46 \
+  --reference step:150:170:60 --duration 1500 --actuator 0:100 --json \
+  > "$out/heater_zone_prediction.json.tmp"
+mv "$out/heater_zone_prediction.json.tmp" "$out/heater_zone_prediction.json"
+
+# Pattern for further steps: banner "what this step shows"; run "$bin" COMMAND ...; files go to "$out".
 
 # ---- figures and the report (h7): keep this the last step ----
-banner "draw the fit over the recording and assemble the one-page HTML report"
-run "$bin" fit "$out/heater_zone_step.csv" --plot "$out/heater_zone_fit.svg"
+banner "assemble the one-page HTML report from the model, band, prediction and fit figure"
 report_inputs=("$out/heater_zone_model.json")
 for f in "$out"/*_band.json "$out"/*_prediction.json "$out"/*.svg; do
   [ -f "$f" ] && report_inputs+=("$f")
