@@ -58,7 +58,11 @@ ResponseCheck CheckResponse(const TransferFunction& plant, const Controller& con
   ResponseCheck check;
   LoopPolynomials loop = LoopPolynomials::ForGain(plant, controller, options.pade_order);
   double slowest = kInf;
-  for (const auto& p : loop.PolesAt(gain)) slowest = std::min(slowest, -p.real());
+  double fastest = 0.0;
+  for (const auto& p : loop.PolesAt(gain)) {
+    slowest = std::min(slowest, -p.real());
+    fastest = std::max(fastest, std::abs(p));
+  }
   if (!(slowest > 0.0)) {
     check.failed = "unstable";
     return check;
@@ -67,6 +71,15 @@ ResponseCheck CheckResponse(const TransferFunction& plant, const Controller& con
   if (specs.settle_max) duration = std::max(duration, 2.0 * *specs.settle_max);
   if (specs.peak_max) duration = std::max(duration, 3.0 * *specs.peak_max);
   if (specs.rise_max) duration = std::max(duration, 3.0 * *specs.rise_max);
+  // The exact-delay simulation steps at about a tenth of the fastest closed-loop time constant,
+  // so a record of `duration` costs about 10 * duration * fastest steps. Beyond kMaxModeSpread
+  // steps the loop's slowest mode is so much slower than its fastest that no practical response
+  // spec is met (it creeps to its final value); such gains are judged too slow, not simulated.
+  constexpr double kMaxModeSpread = 2e5;
+  if (10.0 * duration * fastest > kMaxModeSpread) {
+    check.failed = "too slow";
+    return check;
+  }
   check.duration = duration;
   const int n = options.samples;
   std::vector<double> t(static_cast<size_t>(n)), r(static_cast<size_t>(n), 1.0);

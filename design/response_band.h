@@ -47,8 +47,8 @@ struct ResponseBandOptions {
 
 struct ResponseCheck {
   bool meets = false;
-  std::string failed;  // the first requirement broken: "unstable", "rise", "overshoot",
-                       // "settling", "peak time", "not settled"; empty when it meets
+  std::string failed;  // the first requirement broken: "unstable", "too slow" (see .cc), "rise",
+                       // "overshoot", "settling", "peak time", "not settled"; empty when it meets
   StepMetrics metrics;
   double duration = 0.0;  // s, simulated record length
 };
