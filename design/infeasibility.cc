@@ -7,6 +7,7 @@
 #include <vector>
 
 #include "design/gain_band.h"
+#include "lti/number_text.h"
 
 namespace lw {
 namespace {
@@ -18,11 +19,7 @@ struct Requirement {
   std::function<double(const LoopPolynomials&, double)> quantity;
 };
 
-std::string Num(double v) {
-  char buf[32];
-  std::snprintf(buf, sizeof buf, "%.3g", v);
-  return buf;
-}
+std::string Num(double v) { return SignificantText(v, 3); }
 
 Region Merge(const Region& a, const Region& b) {
   Region r;

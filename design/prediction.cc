@@ -8,16 +8,13 @@
 #include "design/loop_polynomials.h"
 #include "design/pole_verdict.h"
 #include "lti/error.h"
+#include "lti/number_text.h"
 #include "lti/simulate.h"
 
 namespace lw {
 namespace {
 
-std::string Num(double v) {
-  char buf[32];
-  std::snprintf(buf, sizeof buf, "%.4g", v);
-  return buf;
-}
+std::string Num(double v) { return SignificantText(v, 4); }
 
 }  // namespace
 

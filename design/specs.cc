@@ -6,15 +6,12 @@
 #include <vector>
 
 #include "lti/error.h"
+#include "lti/number_text.h"
 
 namespace lw {
 namespace {
 
-std::string Num(double v) {
-  char buf[32];
-  std::snprintf(buf, sizeof buf, "%.4g", v);
-  return buf;
-}
+std::string Num(double v) { return SignificantText(v, 4); }
 
 void RequirePositive(const std::optional<double>& v, const char* field, const char* unit) {
   if (!v) return;

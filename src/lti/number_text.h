@@ -10,6 +10,10 @@ namespace lw {
 
 std::string ShortestText(double value);
 
+// Text for a double rounded to `digits` significant digits (printf's %.Ng), e.g.
+// SignificantText(0.004444, 3) -> "0.00444". For messages and summaries that need no round trip.
+std::string SignificantText(double value, int digits);
+
 }  // namespace lw
 
 #endif  // LOOPWRIGHT_LTI_NUMBER_TEXT_H_

@@ -42,17 +42,14 @@
 #include <vector>
 
 #include "lti/error.h"
+#include "lti/number_text.h"
 
 namespace lw {
 namespace {
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
-std::string Num(double v) {
-  char buf[32];
-  std::snprintf(buf, sizeof buf, "%g", v);
-  return buf;
-}
+std::string Num(double v) { return SignificantText(v, 6); }
 
 // Mean of the middle half of the values (25 % trimmed each side); the median for fewer than 4.
 double TrimmedMean(std::vector<double> v) {
