@@ -31,7 +31,7 @@ struct RigPort {
   enum class Kind { kSerial, kTcp };
   Kind kind = Kind::kSerial;
   std::string device;      // kSerial: a path, e.g. /dev/ttyUSB0 or /dev/pts/5
-  std::string host;        // kTcp: a name or an address; "[::1]" brackets allowed for IPv6
+  std::string host;        // kTcp: a name or an address (IPv6 without its brackets)
   std::uint16_t port = 0;  // kTcp: 1..65535
   // The text it was parsed from, for messages.
   std::string ToString() const;
@@ -85,11 +85,14 @@ class RigLink {
   std::optional<RigLineEvent> NextEvent(std::chrono::milliseconds timeout);
 
   // Encodes the message with the link's next outgoing SEQ (0, 1, 2, ... wrapping at 2^32),
-  // writes it and returns the SEQ used. Thread-safe; returns when the bytes were handed to the
-  // operating system. Throws UsageError (EncodeRigLine) or LinkError when writing fails or the
-  // link is closed.
+  // writes it and returns the SEQ used. Thread-safe; lines go out in SEQ order. From any thread
+  // but the link's own it returns when the bytes were handed to the operating system, and throws
+  // UsageError (EncodeRigLine) or LinkError when writing fails or the link is closed. From a
+  // handler it queues the line and returns at once; the line is written as soon as the handler
+  // returns, and a failed write closes the link (the close message says why).
   std::uint32_t Send(RigMessage message);
-  // Writes a complete line as is (it must end in "\n"); no SEQ bookkeeping. Thread-safe.
+  // Writes a complete line as is (it must end in "\n"); no SEQ bookkeeping. Thread-safe, and
+  // waits or queues exactly as Send does.
   void WriteLine(std::string_view line);
 
   // Stops reading, closes the port and joins the link's thread. Idempotent. May be called from

@@ -1,0 +1,50 @@
+#include "io/serial_link.h"
+
+#include <algorithm>
+#include <array>
+
+#include "io/rig_transport.h"
+#include "lti/error.h"
+
+namespace lw {
+namespace {
+
+constexpr std::array<unsigned, 21> kStandardBauds = {
+    1200,   2400,   4800,    9600,    19200,   38400,   57600,   115200,  230400,  460800, 500000,
+    576000, 921600, 1000000, 1152000, 1500000, 2000000, 2500000, 3000000, 3500000, 4000000};
+
+}  // namespace
+
+bool IsStandardBaud(unsigned baud) {
+  return std::find(kStandardBauds.begin(), kStandardBauds.end(), baud) != kStandardBauds.end();
+}
+
+std::unique_ptr<RigTransport> OpenSerialTransport(const std::string& device, unsigned baud,
+                                                  SerialFlowControl flow_control) {
+  using boost::asio::serial_port;
+  auto transport = std::make_unique<StreamTransport<serial_port>>(device);
+  serial_port& port = transport->stream();
+  boost::system::error_code error;
+  port.open(device, error);
+  if (error) throw LinkError("cannot open " + device + ": " + error.message());
+  const auto flow = flow_control == SerialFlowControl::kHardware
+                        ? serial_port::flow_control::hardware
+                        : serial_port::flow_control::none;
+  if (port.set_option(serial_port::baud_rate(baud), error); error) {
+    throw LinkError("cannot set " + std::to_string(baud) + " baud on " + device + ": " +
+                    error.message());
+  }
+  const char* step = "8N1";
+  if (!port.set_option(serial_port::character_size(8), error) &&
+      !port.set_option(serial_port::parity(serial_port::parity::none), error) &&
+      !port.set_option(serial_port::stop_bits(serial_port::stop_bits::one), error)) {
+    step = "flow control";
+    port.set_option(serial_port::flow_control(flow), error);
+  }
+  if (error) {
+    throw LinkError(std::string("cannot set ") + step + " on " + device + ": " + error.message());
+  }
+  return transport;
+}
+
+}  // namespace lw
