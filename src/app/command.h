@@ -20,6 +20,7 @@ struct Context {
   bool out_is_terminal;      // stdout is a terminal (colour allowed when NO_COLOR is unset too)
   bool color;                // colour may be used on out
   std::string command_line;  // the whole command line, for provenance lines in output files
+  std::string rig_dir = {};  // the global --rig DIR (empty: none given; see app/workspace.h)
 };
 
 class Command {

@@ -45,6 +45,16 @@ int main(int argc, char** argv) {
     commands.back()->Configure(*sub);
     subs.push_back(sub);
   }
+  // The rig workspace (app/workspace.h): global, accepted before or after the command name.
+  std::string rig_dir;
+  const char* rig_help = "Rig workspace folder (made by `loopwright init`); default: the current "
+                         "folder when it holds rig.toml";
+  app.add_option("--rig", rig_dir, rig_help)->type_name("DIR");
+  for (CLI::App* sub : subs) {
+    if (sub->get_option_no_throw("--rig") == nullptr) {
+      sub->add_option("--rig", rig_dir, rig_help)->type_name("DIR");
+    }
+  }
 
   try {
     app.parse(argc, argv);
@@ -63,7 +73,7 @@ int main(int argc, char** argv) {
   const char* no_color = std::getenv("NO_COLOR");
   lw::app::Context ctx{std::cout, std::cerr, terminal,
                        terminal && (no_color == nullptr || *no_color == '\0'),
-                       JoinCommandLine(argc, argv)};
+                       JoinCommandLine(argc, argv), rig_dir};
   for (size_t i = 0; i < subs.size(); ++i) {
     if (!subs[i]->parsed()) continue;
     try {
