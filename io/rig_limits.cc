@@ -5,6 +5,7 @@
 #include <cmath>
 #include <string_view>
 
+#include "io/rig_profile.h"
 #include "lti/error.h"
 #include "lti/number_text.h"
 

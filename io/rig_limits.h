@@ -19,12 +19,12 @@
 #define LOOPWRIGHT_IO_RIG_LIMITS_H_
 
 #include <limits>
-#include <optional>
 #include <string>
-
-#include "io/rig_profile.h"
+#include <utility>
 
 namespace lw {
+
+struct RigProfile;  // io/rig_profile.h
 
 struct RigLimits {
   static constexpr double kInf = std::numeric_limits<double>::infinity();
