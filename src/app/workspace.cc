@@ -3,30 +3,83 @@
 
 #include <filesystem>
 
+#include "io/logbook.h"
+#include "io/model_file.h"
+#include "io/sha256.h"
 #include "lti/error.h"
 
 namespace lw::app {
 
 namespace fs = std::filesystem;
 
+namespace {
+
+bool HoldsProfile(const std::string& dir) {
+  std::error_code ec;
+  return fs::is_regular_file(fs::path(dir) / kProfileFileName, ec);
+}
+
+}  // namespace
+
 std::optional<std::string> FindWorkspace(const Context& ctx) {
   if (!ctx.rig_dir.empty()) {
-    std::error_code ec;
-    if (!fs::is_regular_file(fs::path(ctx.rig_dir) / kProfileFileName, ec)) {
+    if (!HoldsProfile(ctx.rig_dir)) {
       throw UsageError("--rig '" + ctx.rig_dir + "' is not a loopwright workspace (no " +
                        std::string(kProfileFileName) + "); create one with `loopwright init " +
                        ctx.rig_dir + "`");
     }
     return ctx.rig_dir;
   }
-  std::error_code ec;
-  if (fs::is_regular_file(fs::path(".") / kProfileFileName, ec)) return std::string(".");
+  if (HoldsProfile(".")) return std::string(".");
   return std::nullopt;
 }
 
-void LogResult(const Context&, std::string_view, std::string_view, const nlohmann::json&,
-               const std::vector<std::string>&) {
-  // The logbook lands in the next commit (io/logbook.h).
+std::optional<RigProfile> LoadRigProfile(const Context& ctx) {
+  std::optional<std::string> dir = FindWorkspace(ctx);
+  if (!dir) return std::nullopt;
+  return ReadRigProfile((fs::path(*dir) / kProfileFileName).string());
+}
+
+RigProfile RequireRigProfile(const Context& ctx) {
+  std::optional<RigProfile> profile = LoadRigProfile(ctx);
+  if (!profile) {
+    throw UsageError(
+        "this command needs a rig workspace: pass --rig DIR or run it inside a folder made by "
+        "`loopwright init`");
+  }
+  return *profile;
+}
+
+void LogResult(const Context& ctx, std::string_view kind, std::string_view outcome,
+               const nlohmann::json& summary, const std::vector<std::string>& recordings) {
+  // The same "warning: " line as Warn() (output.h), which takes a mutable Context.
+  auto warn = [&](const std::string& why) {
+    ctx.err << "warning: the result was not logged: " << why << "\n";
+  };
+  try {
+    std::optional<std::string> dir = FindWorkspace(ctx);
+    if (!dir) return;
+    NewResult r;
+    r.time = NowUtcIso8601();
+    r.kind = std::string(kind);
+    r.outcome = std::string(outcome);
+    r.command_line = ctx.command_line;
+    r.summary = summary;
+    for (const std::string& path : recordings) {
+      LoggedRecording rec;
+      rec.path = path;
+      rec.sha256 = Sha256OfFile(path);
+      std::error_code ec;
+      auto size = fs::file_size(path, ec);
+      rec.size = ec ? -1 : static_cast<int64_t>(size);
+      r.recordings.push_back(std::move(rec));
+    }
+    if (kind == "fit") r.parameters = ParametersOfFitSummary(summary);
+    Logbook book = Logbook::Open((fs::path(*dir) / kLogbookFileName).string());
+    book.AddResult(r);
+  } catch (const std::exception& e) {
+    warn(e.what());
+  }
 }
 
 }  // namespace lw::app
