@@ -10,6 +10,7 @@ std::unique_ptr<Command> MakeFitCommand();
 std::unique_ptr<Command> MakeBandCommand();
 std::unique_ptr<Command> MakePredictCommand();
 std::unique_ptr<Command> MakeReportCommand();
+std::unique_ptr<Command> MakeEmulateCommand();
 
 const std::vector<CommandEntry>& CommandTable() {
   static const std::vector<CommandEntry> table = {
@@ -23,6 +24,8 @@ const std::vector<CommandEntry>& CommandTable() {
        MakePredictCommand},
       {"report", "Assemble one self-contained HTML page from saved results and figures",
        MakeReportCommand},
+      {"emulate", "Run a simulated rig speaking the rig protocol on a pseudo-terminal or TCP port",
+       MakeEmulateCommand},
   };
   return table;
 }
