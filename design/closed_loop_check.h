@@ -15,7 +15,8 @@
 // recorded reference, in deviations from the operating point the recording starts at:
 //   y_hat = y0 + dy,  u_hat = u0 + du,  where (du, dy) is the loop's response to r - r[0] from
 //   the zero state,
-// y0, u0 the 25 % trimmed means of y and u before the first step. This assumes the loop is at rest
+// y0, u0 the 25 % trimmed means of y and u before the first step (u0 = 0 without a u column: the
+// predicted u is then a deviation). This assumes the loop is at rest
 // before the first step; it makes a plant offset (a fitted model's output at rest) irrelevant.
 // Predicted metrics are lti/step_metrics.h in noise-free mode on y_hat, u_hat per segment.
 // fit_percent = 100 (1 - |y - y_hat| / |y - mean(y)|) over the samples from the first step on.
@@ -41,13 +42,16 @@
 // 90 %, never settled) is consistent when measured and nominal are both NaN, or when at least
 // 2.5 % of the draws or noise replicates are NaN too; a finite measurement against predictions
 // that are all NaN is not. Without a u column the peak actuator and the actuator limits are not
-// judged.
+// judged; the peak time is not judged when the nominal prediction does not overshoot (the peak of
+// a monotone response is its largest value near the end, which says nothing about the loop).
 //
 // Actuator limits. With `actuator` given, a sample is at a limit when u is within 1e-6 of the
 // limits' span of LO or HI. Without it, limits are detected: a sample is at a limit when u is
 // within 1e-9 of its span of the recorded minimum or maximum, inside a flat run of at least
-// min_limit_samples such samples, while the loop is away from its reference (|r - y| > the
-// settling band of the step plus 3 sd_output), because at rest before a step u is flat too.
+// min_limit_samples such samples, while the loop is away from rest: y differs from the level the
+// step settles at (the middle mean of the last fifth of its segment), or r - y from the nominal
+// prediction's steady-state error, by more than the step's settling band plus 3 sd_output
+// (at rest u may be flat too, at a recorded extreme).
 // A step is at its limit when its time at a limit is at least min_limit_samples sample intervals
 // and at least limit_time_fraction of the time after the step.
 //
@@ -108,6 +112,9 @@ inline constexpr size_t kCheckMetricCount = 6;
 // "rise_time", "overshoot_percent", "peak_time", "settling_time", "steady_state_error",
 // "peak_actuator".
 std::string_view CheckMetricKey(CheckMetric m);
+// Names for text: "rise time", "overshoot", "peak time", "settling time", "steady-state error",
+// "peak actuator".
+std::string_view CheckMetricLabel(CheckMetric m);
 // Units for text: "s", "%", "s", "s", "" (output units), "" (actuator units).
 std::string_view CheckMetricUnit(CheckMetric m);
 
@@ -142,7 +149,9 @@ std::string_view CheckVerdictName(CheckVerdict v);
 struct ClosedLoopCheck {
   std::vector<StepCheck> steps;
   std::vector<double> predicted_y, predicted_u;  // nominal prediction on t
-  // Pointwise `coverage` envelope of the draws' y and u (the nominal when there are no draws).
+  // Pointwise `coverage` envelope of the draws' y and u, widened to include the nominal (the
+  // nominal when there are no draws); computed at every ceil(n / 4000)-th sample and linear
+  // between.
   std::vector<double> envelope_y_lo, envelope_y_hi, envelope_u_lo, envelope_u_hi;
   double y0 = 0.0, u0 = 0.0;  // the operating point before the first step
   double fit_percent = 0.0;

@@ -1,0 +1,214 @@
+// design/closed_loop_check.h: the check of a model against a closed-loop recording.
+//
+// Outside references: the step of a second-order loop without zeros, overshoot
+// exp(-pi zeta / sqrt(1 - zeta^2)) and peak time pi / wd (Franklin, Powell & Emami-Naeini,
+// Feedback Control of Dynamic Systems, ch. 3; from memory); the rest are statistical properties
+// the check promises (confirmed for >= 95 % of noise-only reruns of the right model, stale for a
+// changed plant, saturated at the actuator limit). Plants and numbers are our own.
+#include <doctest/doctest.h>
+
+#include <cmath>
+#include <random>
+#include <vector>
+
+#include "design/closed_loop_check.h"
+#include "lti/error.h"
+#include "lti/saturated_loop.h"
+#include "lti/simulate.h"
+
+namespace lw {
+namespace {
+
+struct Rec {
+  std::vector<double> t, r, u, y;
+  CheckRecord View() const { return {t, r, u, y}; }
+};
+
+std::vector<double> Grid(double dt, double duration) {
+  std::vector<double> t;
+  for (size_t k = 0; k * dt <= duration + 1e-12; ++k) t.push_back(static_cast<double>(k) * dt);
+  return t;
+}
+
+// Reference steps (time, level) after an initial level.
+std::vector<double> Reference(const std::vector<double>& t, double initial,
+                              const std::vector<std::pair<double, double>>& steps) {
+  std::vector<double> r(t.size(), initial);
+  for (size_t k = 0; k < t.size(); ++k) {
+    for (const auto& [at, level] : steps) {
+      if (t[k] >= at - 1e-12) r[k] = level;
+    }
+  }
+  return r;
+}
+
+Rec ClosedLoopRecord(const TransferFunction& plant, const Controller& c, double gain,
+                     const std::vector<double>& t, const std::vector<double>& r, double noise_sd,
+                     uint64_t seed) {
+  ClosedLoopResponse resp = SimulateClosedLoop(plant, c, gain, t, r);
+  Rec rec{t, r, resp.u, resp.y};
+  std::mt19937_64 rng(seed);
+  std::normal_distribution<double> normal(0.0, noise_sd);
+  if (noise_sd > 0.0) {
+    for (double& v : rec.y) v += normal(rng);
+  }
+  return rec;
+}
+
+// First order plus dead time K exp(-T s) / (tau s + 1).
+TransferFunction Fopdt(double k, double tau, double delay) {
+  return TransferFunction(std::vector<double>{k}, std::vector<double>{tau, 1.0}, delay);
+}
+
+// Plausible plants around (k, tau, delay) with relative standard deviation `rel` on each.
+std::vector<TransferFunction> FopdtDraws(double k, double tau, double delay, double rel, int n,
+                                         uint64_t seed) {
+  std::mt19937_64 rng(seed);
+  std::normal_distribution<double> z(0.0, 1.0);
+  std::vector<TransferFunction> out;
+  for (int i = 0; i < n; ++i) {
+    out.push_back(
+        Fopdt(k * (1 + rel * z(rng)), tau * (1 + rel * z(rng)), delay * (1 + rel * z(rng))));
+  }
+  return out;
+}
+
+TEST_CASE("check: a noise-free record of the model itself is confirmed, metrics as the formula") {
+  // G = 2 / (s (0.8 s + 1)) under P control K = 1: T(s) = 2 / (0.8 s^2 + s + 2), so
+  // wn = sqrt(2.5) rad/s, zeta = 1 / (2 sqrt(1.6)).
+  const TransferFunction g(std::vector<double>{2.0}, std::vector<double>{0.8, 1.0, 0.0});
+  const Controller p;
+  const std::vector<double> t = Grid(0.01, 20.0);
+  const std::vector<double> r = Reference(t, 0.0, {{1.0, 1.0}});
+  const Rec rec = ClosedLoopRecord(g, p, 1.0, t, r, 0.0, 1);
+  const ClosedLoopCheck c = CheckClosedLoop(g, {}, p, 1.0, rec.View());
+  REQUIRE(c.steps.size() == 1);
+  CHECK(c.verdict == CheckVerdict::kConfirmed);
+  CHECK(c.fit_percent > 99.999);
+  const double wn = std::sqrt(2.5), zeta = 1.0 / (2.0 * std::sqrt(1.6));
+  const double wd = wn * std::sqrt(1 - zeta * zeta);
+  const double overshoot = 100.0 * std::exp(-M_PI * zeta / std::sqrt(1 - zeta * zeta));
+  const StepCheck& st = c.steps[0];
+  CHECK(st.at == doctest::Approx(1.0));
+  CHECK(st.from == 0.0);
+  CHECK(st.to == 1.0);
+  CHECK(st.metric(CheckMetric::kOvershoot).predicted == doctest::Approx(overshoot).epsilon(1e-3));
+  CHECK(st.metric(CheckMetric::kOvershoot).measured == doctest::Approx(overshoot).epsilon(5e-3));
+  CHECK(st.metric(CheckMetric::kPeakTime).predicted == doctest::Approx(M_PI / wd).epsilon(2e-3));
+  CHECK(std::abs(st.metric(CheckMetric::kSteadyStateError).measured) < 1e-3);
+  for (const MetricCheck& m : st.metrics) CHECK(m.consistent);
+  CHECK_FALSE(st.at_limit);
+}
+
+TEST_CASE("check: right model confirmed in >= 95 % of noise-only reruns; 25 % slower plant stale") {
+  // Our plant: 1.8 exp(-0.6 s) / (4 s + 1) under PI C = 1.6 (s + 0.4) / s, set-point 10 -> 12
+  // at t = 3 s; output noise 1 % of the step; the model's draws spread 3 % on each parameter.
+  const TransferFunction truth = Fopdt(1.8, 4.0, 0.6);
+  const TransferFunction slower = Fopdt(1.8, 5.0, 0.6);
+  const Controller pi = Controller::Parse("pi:0.4");
+  const double gain = 1.6;  // about 14 % overshoot
+  const std::vector<double> t = Grid(0.05, 40.0);
+  const std::vector<double> r = Reference(t, 10.0, {{3.0, 12.0}});
+  const std::vector<TransferFunction> draws = FopdtDraws(1.8, 4.0, 0.6, 0.03, 200, 7);
+  ClosedLoopCheckOptions o;
+  o.noise_replicates = 60;
+  const int reruns = 20;
+  int confirmed = 0, stale = 0;
+  for (int i = 0; i < reruns; ++i) {
+    const Rec right = ClosedLoopRecord(truth, pi, gain, t, r, 0.02, 100 + i);
+    ClosedLoopCheck c = CheckClosedLoop(truth, draws, pi, gain, right.View(), o);
+    if (c.verdict == CheckVerdict::kConfirmed) ++confirmed;
+    if (i == 0) {
+      INFO(c.reason);
+      CHECK(c.sd_output == doctest::Approx(0.02).epsilon(0.15));
+      CHECK(c.draws == 200);
+    }
+    const Rec changed = ClosedLoopRecord(slower, pi, gain, t, r, 0.02, 500 + i);
+    ClosedLoopCheck s = CheckClosedLoop(truth, draws, pi, gain, changed.View(), o);
+    if (s.verdict == CheckVerdict::kStale) ++stale;
+  }
+  MESSAGE("right model confirmed in ", confirmed, " of ", reruns, "; changed plant stale in ",
+          stale);
+  CHECK(confirmed >= 19);  // 95 % of 20
+  CHECK(stale >= 19);
+}
+
+TEST_CASE("check: the actuator at its limit makes the verdict saturated, given or detected") {
+  // The plant above under a high PI gain with the actuator clipped to [0, 14]: the set-point
+  // step 10 -> 14 asks for more than 14 for several seconds.
+  const TransferFunction g = Fopdt(1.8, 4.0, 0.6);
+  const Controller pi = Controller::Parse("pi:0.25");
+  const std::vector<double> t = Grid(0.05, 40.0);
+  const std::vector<double> r = Reference(t, 10.0, {{3.0, 14.0}});
+  SaturatedLoopResponse sat = SimulateSaturatedLoop(g, pi, 3.0, t, r, ActuatorLimits{0.0, 14.0});
+  REQUIRE(sat.limits_reached);
+  Rec rec{t, r, sat.response.u, sat.response.y};
+  std::mt19937_64 rng(3);
+  std::normal_distribution<double> normal(0.0, 0.04);
+  for (double& v : rec.y) v += normal(rng);
+  ClosedLoopCheckOptions given;
+  given.actuator = ActuatorLimits{0.0, 14.0};
+  given.noise_replicates = 20;
+  ClosedLoopCheck a = CheckClosedLoop(g, {}, pi, 3.0, rec.View(), given);
+  CHECK(a.verdict == CheckVerdict::kSaturated);
+  CHECK(a.steps[0].at_limit);
+  CHECK(a.steps[0].limit_value == 14.0);
+  CHECK(a.steps[0].time_at_limit > 0.5);
+  ClosedLoopCheckOptions detect;
+  detect.noise_replicates = 20;
+  ClosedLoopCheck b = CheckClosedLoop(g, {}, pi, 3.0, rec.View(), detect);
+  CHECK(b.verdict == CheckVerdict::kSaturated);
+  CHECK(b.steps[0].time_at_limit == doctest::Approx(a.steps[0].time_at_limit).epsilon(0.05));
+  // The same loop with room to spare is not saturated, with or without given limits.
+  ClosedLoopCheckOptions wide = given;
+  wide.actuator = ActuatorLimits{0.0, 100.0};
+  Rec free = ClosedLoopRecord(g, pi, 3.0, t, r, 0.04, 4);
+  CHECK(CheckClosedLoop(g, {}, pi, 3.0, free.View(), wide).verdict == CheckVerdict::kConfirmed);
+  CHECK(CheckClosedLoop(g, {}, pi, 3.0, free.View(), detect).verdict == CheckVerdict::kConfirmed);
+}
+
+TEST_CASE("check: several reference steps, each judged on its own segment") {
+  const TransferFunction g = Fopdt(0.9, 2.0, 0.3);
+  const Controller pi = Controller::Parse("pi:0.5");
+  const std::vector<double> t = Grid(0.05, 60.0);
+  const std::vector<double> r = Reference(t, 1.0, {{5.0, 3.0}, {25.0, 2.0}, {45.0, 2.5}});
+  const Rec rec = ClosedLoopRecord(g, pi, 1.5, t, r, 0.01, 11);
+  ClosedLoopCheckOptions o;
+  o.noise_replicates = 30;
+  const ClosedLoopCheck c = CheckClosedLoop(g, {}, pi, 1.5, rec.View(), o);
+  REQUIRE(c.steps.size() == 3);
+  CHECK(c.steps[0].from == 1.0);
+  CHECK(c.steps[1].to == 2.0);
+  CHECK(c.steps[2].at == doctest::Approx(45.0));
+  CHECK(c.steps[1].begin == c.steps[0].step);
+  CHECK(c.steps[0].end == c.steps[1].step);
+  CHECK(c.steps[2].end == t.size());
+  CHECK(c.verdict == CheckVerdict::kConfirmed);
+  CHECK(c.predicted_y.size() == t.size());
+  CHECK(c.envelope_y_lo.size() == t.size());
+}
+
+TEST_CASE("check: refusals name what is wrong") {
+  const TransferFunction g = Fopdt(1.0, 1.0, 0.1);
+  const Controller p;
+  const std::vector<double> t = Grid(0.1, 10.0);
+  std::vector<double> flat(t.size(), 1.0);
+  Rec rec{t, flat, {}, flat};
+  CHECK_THROWS_AS(CheckClosedLoop(g, {}, p, 1.0, rec.View()), DataError);
+  Rec close{t, Reference(t, 0.0, {{0.3, 1.0}}), {}, flat};
+  CHECK_THROWS_WITH_AS(CheckClosedLoop(g, {}, p, 1.0, close.View()),
+                       doctest::Contains("samples apart"), DataError);
+  Rec mismatch{t, flat, {1.0}, flat};
+  CHECK_THROWS_AS(CheckClosedLoop(g, {}, p, 1.0, mismatch.View()), UsageError);
+  ClosedLoopCheckOptions o;
+  o.coverage = 1.0;
+  CHECK_THROWS_WITH_AS(o.Validate(), doctest::Contains("coverage"), UsageError);
+  o = {};
+  o.noise_replicates = 5;
+  CHECK_THROWS_WITH_AS(o.Validate(), doctest::Contains("noise_replicates"), UsageError);
+  CHECK(CheckMetricKey(CheckMetric::kOvershoot) == "overshoot_percent");
+  CHECK(CheckVerdictName(CheckVerdict::kStale) == "stale");
+}
+
+}  // namespace
+}  // namespace lw
