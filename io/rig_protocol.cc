@@ -242,6 +242,12 @@ class BodyParser {
   RigParseResult& r_;
 };
 
+// TEXT may not contain " *", which would read as the start of a CRC.
+bool NoSeal(BodyParser& p, const std::string& text) {
+  if (text.find(" *") == std::string::npos) return true;
+  return p.Fail("TEXT contains \" *\"");
+}
+
 bool ParseCaps(const Fields& f, BodyParser& p, RigMessage& m) {
   constexpr std::uint64_t kMaxInt = std::numeric_limits<std::int64_t>::max();
   std::uint64_t version = 0, period = 0, watchdog = 0;
@@ -281,7 +287,7 @@ bool ParseFields(const Fields& f, BodyParser& p, RigMessage& m) {
       if (!p.AtLeast(5) || !p.Seq32(2, "ACKED_SEQ", m.acked)) return false;
       m.code = std::string(f[3]);
       m.text = std::string(f.Rest(4));
-      return true;
+      return NoSeal(p, m.text);
     case RigMessageKind::kState: {
       if (!p.AtLeast(3)) return false;
       std::size_t i = 0;
@@ -292,7 +298,7 @@ bool ParseFields(const Fields& f, BodyParser& p, RigMessage& m) {
       }
       m.mode = static_cast<RigMode>(i);
       if (f.count() > 3) m.text = std::string(f.Rest(3));
-      return true;
+      return NoSeal(p, m.text);
     }
     case RigMessageKind::kHello: {
       std::uint64_t version = 0;

@@ -209,6 +209,8 @@ TEST_CASE("field faults under a correct CRC are malformed or unknown") {
       "ok 1",                              // no ACKED_SEQ
       "ok 1 2 3",                          // extra
       "err 1 2 range",                     // no TEXT
+      "err 1 2 range a *b",                // TEXT with what reads as a CRC mark
+      "state 1 safe x *",                  // the same in a state text
       "state 1 running",                   // unknown mode
       "state 1",                           // no mode
       "loop 1 p 2",                        // no reference
