@@ -6,6 +6,7 @@
 
 #include <cmath>
 #include <cstdint>
+#include <fstream>
 #include <limits>
 #include <string>
 #include <vector>
@@ -364,6 +365,28 @@ TEST_CASE("a line cut off at the end of the stream is reported by Finish") {
   CHECK(c.splitter.counts().rejected == 1);
   c.splitter.Finish();  // nothing pending: nothing more
   CHECK(c.events.size() == 2);
+}
+
+TEST_CASE("every example line in io/rig_protocol.md parses with a matching CRC") {
+  std::ifstream spec(std::string(LOOPWRIGHT_SOURCE_DIR) + "/io/rig_protocol.md");
+  REQUIRE(spec.good());
+  std::string text;
+  int examples = 0;
+  bool in_code = false;
+  while (std::getline(spec, text)) {
+    if (text.rfind("```", 0) == 0) in_code = !in_code;
+    if (!in_code || text.size() < 2 || (text.rfind("> ", 0) != 0 && text.rfind("< ", 0) != 0)) {
+      continue;
+    }
+    const RigParseResult r = ParseRigLine(text.substr(2));
+    INFO("line: ", text, " reason: ", r.reason);
+    CHECK(r.status == RigParseStatus::kOk);
+    CHECK(IsRigToHost(r.message.kind) == (text[0] == '<'));
+    ++examples;
+  }
+  CHECK(examples >= 15);
+  // The spec tells firmware authors to type this line at a new rig.
+  CHECK(ParseRigLine("hello 0 1 *177E").status == RigParseStatus::kOk);
 }
 
 }  // namespace
