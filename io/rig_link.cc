@@ -125,6 +125,7 @@ struct RigLink::State {
   std::mutex queue_mutex;
   std::condition_variable queue_ready;
   std::deque<RigLineEvent> queue;
+  std::vector<RigLineEvent> pending;  // io thread only
   bool queue_closed = false;
   std::string close_message;
 
@@ -139,11 +140,18 @@ struct RigLink::State {
       on_event(event);
       return;
     }
+    pending.push_back(event);  // handed over once per read, in FlushPending
+  }
+
+  // Queue mode: moves the events of one read into the queue under one lock and one wake-up.
+  void FlushPending() {
+    if (pending.empty()) return;
     {
       std::lock_guard<std::mutex> lock(queue_mutex);
-      queue.push_back(event);
+      for (RigLineEvent& event : pending) queue.push_back(std::move(event));
     }
-    queue_ready.notify_one();
+    pending.clear();
+    queue_ready.notify_all();
   }
 
   void Run() {
@@ -170,6 +178,7 @@ struct RigLink::State {
       } catch (const std::exception& e) {
         if (failure.empty()) failure = e.what();
       }
+      FlushPending();
       std::lock_guard<std::mutex> lock(counts_mutex);
       counts = splitter.counts();
     }
@@ -199,6 +208,7 @@ struct RigLink::State {
     } catch (const std::exception&) {
       // The handler's failure on a cut-off last line changes nothing: the link is ending.
     }
+    FlushPending();
     {
       std::lock_guard<std::mutex> lock(counts_mutex);
       counts = splitter.counts();

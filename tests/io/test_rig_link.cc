@@ -106,6 +106,10 @@ TEST_CASE("rig link over a pseudo-terminal: the serial transport opens the slave
   // of those would show up as rejected lines or extra events here.
   Converse(pair);
   CHECK(!pair.host->NextEvent(milliseconds(50)).has_value());
+  // The master closing hangs the slave up (read gives EIO): said as the rig closing the link.
+  pair.rig.reset();
+  CHECK_THROWS_WITH_AS(pair.host->NextEvent(milliseconds(2000)),
+                       ("the rig on " + slave + " closed the link").c_str(), LinkError);
 }
 
 TEST_CASE("rig link over loopback TCP") {
