@@ -9,6 +9,7 @@ std::unique_ptr<Command> MakeSimulateCommand();
 std::unique_ptr<Command> MakeFitCommand();
 std::unique_ptr<Command> MakeBandCommand();
 std::unique_ptr<Command> MakePredictCommand();
+std::unique_ptr<Command> MakeCheckCommand();
 std::unique_ptr<Command> MakeReportCommand();
 std::unique_ptr<Command> MakeEmulateCommand();
 
@@ -22,6 +23,8 @@ const std::vector<CommandEntry>& CommandTable() {
        MakeBandCommand},
       {"predict", "Predict the closed loop at one gain: poles, margins, step response, effort",
        MakePredictCommand},
+      {"check", "Check a model against a fresh closed-loop recording: confirmed, stale, saturated",
+       MakeCheckCommand},
       {"report", "Assemble one self-contained HTML page from saved results and figures",
        MakeReportCommand},
       {"emulate", "Run a simulated rig speaking the rig protocol on a pseudo-terminal or TCP port",

@@ -40,6 +40,11 @@ LoadedModel ModelSource::Load() const {
     loaded.description = "plant formula '" + formula_ + "'";
     return loaded;
   }
+  return LoadModelFile(file);
+}
+
+LoadedModel LoadModelFile(const std::string& file) {
+  LoadedModel loaded;
   ModelDocument doc = ReadModelFile(file);
   loaded.tf = doc.tf;
   loaded.description = "model file '" + file + "'";

@@ -30,6 +30,10 @@ struct LoadedModel {
   std::string description;
 };
 
+// Reads a model file as ModelSource::Load() does for one (for commands whose positionals hold
+// more than the model file). ReadModelFile's DataError passes through.
+LoadedModel LoadModelFile(const std::string& path);
+
 class ModelSource {
  public:
   // How the model file is named on the command line.

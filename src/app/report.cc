@@ -5,7 +5,8 @@
 // FILE is a model file (fit -o), a band file (band -o), a prediction (predict --json saved to a
 // file) or an SVG figure (any command's --plot FILE.svg). Figures go to the section they belong
 // to by their name: "fit" with the model, "locus" and "metrics" with the band, "response" and
-// "predict" with the prediction, anything else under "Figures". A JSON file of another kind is a
+// "predict" with the prediction, "check" with the verification (a check file saved by
+// `loopwright check --save`), anything else under "Figures". A JSON file of another kind is a
 // data error (exit 3) naming the file; the report is written atomically.
 #include <algorithm>
 #include <filesystem>
@@ -163,6 +164,7 @@ class Builder {
         target = band_index_;
       if (n.find("response") != std::string::npos || n.find("predict") != std::string::npos)
         target = prediction_index_;
+      if (n.find("check") != std::string::npos && check_index_) target = check_index_;
       if (target && *target < sections_.size())
         sections_[*target].figures.push_back(f);
       else
@@ -178,8 +180,56 @@ class Builder {
     return r;
   }
 
+  // A saved check (`loopwright check --save`): the verdict box and a verification section with
+  // every step's measured and predicted metrics and their tolerances.
   void AddVerdict(const json& doc) {
     verdict_ = ReportVerdict{doc.value("pass", false), Text(doc.value("sentence", json()))};
+    if (!doc.contains("steps") || !doc["steps"].is_array()) return;
+    ReportSection s{"Verification against a closed-loop recording", {}, {}, {}};
+    s.paragraphs.push_back("Recording " + Text(doc.value("recording", json())) + ", controller " +
+                           Text(doc.value("controller", json())) +
+                           " at K = " + Text(doc.value("gain", json())) +
+                           ". Verdict: " + Text(doc.value("verdict", json())) + " (" +
+                           Text(doc.value("reason", json())) + ").");
+    const json noise = doc.value("noise", json::object());
+    s.paragraphs.push_back("Fit of the predicted output " + Text(doc.value("fit_percent", json())) +
+                           " %; output noise sd " + Text(noise.value("output_sd", json())) +
+                           "; tolerances from " + Text(doc.value("draws", json())) +
+                           " parameter draws and " + Text(doc.value("noise_replicates", json())) +
+                           " noise replicates.");
+    const std::pair<const char*, const char*> rows[] = {
+        {"rise_time", "rise time (s)"},
+        {"overshoot_percent", "overshoot (%)"},
+        {"peak_time", "peak time (s)"},
+        {"settling_time", "settling time (s)"},
+        {"steady_state_error", "steady-state error"},
+        {"peak_actuator", "peak actuator"}};
+    for (const json& st : doc["steps"]) {
+      ReportTable t{
+          {"step " + Text(st.value("from", json())) + " → " + Text(st.value("to", json())) +
+               " at " + Text(st.value("at", json())) + " s",
+           "measured", "predicted", "tolerance", "consistent"},
+          {}};
+      const json none = json::object();
+      const json& meas = st.contains("measured") ? st["measured"] : none;
+      const json& pred = st.contains("predicted") ? st["predicted"] : none;
+      const json& tol = st.contains("tolerance") ? st["tolerance"] : none;
+      const json& ok = st.contains("consistent") ? st["consistent"] : none;
+      for (const auto& [key, label] : rows) {
+        std::string range = "n/a";
+        if (tol.contains(key) && tol[key].is_array() && tol[key].size() == 2)
+          range = Text(tol[key][0]) + " to " + Text(tol[key][1]);
+        std::string verdict = !ok.contains(key)     ? "n/a"
+                              : ok[key].is_null()   ? "not judged"
+                              : ok[key].get<bool>() ? "yes"
+                                                    : "NO";
+        t.rows.push_back(
+            {label, Text(meas.value(key, json())), Text(pred.value(key, json())), range, verdict});
+      }
+      s.tables.push_back(t);
+    }
+    sections_.push_back(s);
+    check_index_ = sections_.size() - 1;
   }
 
  private:
@@ -196,7 +246,7 @@ class Builder {
 
   std::vector<ReportSection> sections_;
   std::vector<ReportFigure> figures_;
-  std::optional<size_t> model_index_, band_index_, prediction_index_;
+  std::optional<size_t> model_index_, band_index_, prediction_index_, check_index_;
   std::optional<ReportVerdict> verdict_;
 };
 
