@@ -72,8 +72,8 @@ std::string TomlString(std::string_view s) {
 std::string Num(double v) { return TomlNumber(v); }
 
 // The first rule the profile breaks: the field's TOML key and the sentence; nullopt when none.
-std::optional<std::pair<std::string, std::string>> FirstProblem(const RigProfile& p) {
-  using Problem = std::pair<std::string, std::string>;
+std::optional<RigProfile::Problem> ProblemOf(const RigProfile& p) {
+  using Problem = RigProfile::Problem;
   auto finite = [](const std::optional<double>& v) { return !v || std::isfinite(*v); };
   if (p.name.empty()) return Problem{"name", "name must not be empty"};
   const RigLink& l = p.link;
@@ -256,8 +256,10 @@ std::string RigLink::Host() const {
 
 int RigLink::Port() const { return std::atoi(address.substr(address.rfind(':') + 1).c_str()); }
 
+std::optional<RigProfile::Problem> RigProfile::FirstProblem() const { return ProblemOf(*this); }
+
 void RigProfile::Validate() const {
-  if (auto problem = FirstProblem(*this)) throw UsageError(problem->second);
+  if (auto problem = ProblemOf(*this)) throw UsageError(problem->sentence);
 }
 
 double RigProfile::ClipActuator(double v) const {
@@ -346,12 +348,12 @@ RigProfile ParseRigProfile(std::string_view toml_text, const std::string& source
   p.specs.settle_band_percent = r.Number(specs, "specs.settle_band_percent", "settle_band_percent")
                                     .value_or(p.specs.settle_band_percent);
 
-  if (auto problem = FirstProblem(p)) {
-    auto pos = r.PositionOf(problem->first);
+  if (auto problem = ProblemOf(p)) {
+    auto pos = r.PositionOf(problem->key);
     // A rule broken by a missing key (a serial link without a device) points at its table.
-    if (!pos) pos = r.PositionOf(problem->first.substr(0, problem->first.find('.')));
+    if (!pos) pos = r.PositionOf(problem->key.substr(0, problem->key.find('.')));
     std::string where = pos ? Where(source, *pos) : source + ":1:1";
-    throw DataError(where + ": " + problem->second);
+    throw DataError(where + ": " + problem->sentence);
   }
   return p;
 }

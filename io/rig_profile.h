@@ -83,6 +83,11 @@ struct RigProfile {
   // Throws UsageError naming the field (as its TOML key, e.g. "actuator.max"), its value and
   // the rule it broke.
   void Validate() const;
+  // The first rule broken, without throwing: the field's TOML key and Validate()'s sentence.
+  struct Problem {
+    std::string key, sentence;
+  };
+  std::optional<Problem> FirstProblem() const;
 
   // The actuator value v clipped to [actuator_min, actuator_max] (unbounded sides left as they
   // are).

@@ -12,6 +12,9 @@ std::unique_ptr<Command> MakePredictCommand();
 std::unique_ptr<Command> MakeCheckCommand();
 std::unique_ptr<Command> MakeReportCommand();
 std::unique_ptr<Command> MakeEmulateCommand();
+std::unique_ptr<Command> MakeInitCommand();
+std::unique_ptr<Command> MakeLogCommand();
+std::unique_ptr<Command> MakeDriftCommand();
 
 const std::vector<CommandEntry>& CommandTable() {
   static const std::vector<CommandEntry> table = {
@@ -29,6 +32,12 @@ const std::vector<CommandEntry>& CommandTable() {
        MakeReportCommand},
       {"emulate", "Run a simulated rig speaking the rig protocol on a pseudo-terminal or TCP port",
        MakeEmulateCommand},
+      {"init", "Create a rig workspace: a rig profile (TOML) and an empty logbook (SQLite)",
+       MakeInitCommand},
+      {"log", "List the workspace's logbook: every result with its time, outcome, recordings",
+       MakeLogCommand},
+      {"drift", "Follow each fitted parameter across the logged fits; flag significant changes",
+       MakeDriftCommand},
   };
   return table;
 }

@@ -50,6 +50,19 @@ RigProfile RequireRigProfile(const Context& ctx) {
   return *profile;
 }
 
+Logbook OpenWorkspaceLogbook(const Context& ctx, std::string* workspace) {
+  std::optional<std::string> dir = FindWorkspace(ctx);
+  if (!dir) {
+    throw UsageError(
+        "not inside a rig workspace: pass --rig DIR or run inside a folder made by `loopwright "
+        "init`");
+  }
+  if (workspace) *workspace = *dir;
+  LogbookOptions options;
+  options.read_only = true;
+  return Logbook::Open((fs::path(*dir) / kLogbookFileName).string(), options);
+}
+
 void LogResult(const Context& ctx, std::string_view kind, std::string_view outcome,
                const nlohmann::json& summary, const std::vector<std::string>& recordings) {
   // The same "warning: " line as Warn() (output.h), which takes a mutable Context.
@@ -67,7 +80,7 @@ void LogResult(const Context& ctx, std::string_view kind, std::string_view outco
     r.summary = summary;
     for (const std::string& path : recordings) {
       LoggedRecording rec;
-      rec.path = path;
+      rec.path = fs::absolute(path).lexically_normal().string();
       rec.sha256 = Sha256OfFile(path);
       std::error_code ec;
       auto size = fs::file_size(path, ec);

@@ -31,6 +31,7 @@
 #include <nlohmann/json.hpp>
 
 #include "app/command.h"
+#include "io/logbook.h"
 #include "io/rig_profile.h"
 
 namespace lw::app {
@@ -52,6 +53,11 @@ std::optional<RigProfile> LoadRigProfile(const Context& ctx);
 // As LoadRigProfile, but throws UsageError("this command needs a rig workspace: pass --rig DIR
 // or run it inside a folder made by `loopwright init`") outside a workspace.
 RigProfile RequireRigProfile(const Context& ctx);
+
+// The workspace's logbook opened read-only (for `log`, `drift`), and the workspace folder in
+// *workspace when not null. Throws UsageError("not inside a rig workspace: ...") outside one,
+// DataError as Logbook::Open.
+Logbook OpenWorkspaceLogbook(const Context& ctx, std::string* workspace = nullptr);
 
 // Records one finished result in the workspace's logbook: the time (UTC), the kind, the outcome,
 // the command line, the summary JSON and, for each path in `recordings`, its SHA-256 and size
