@@ -66,10 +66,18 @@ mv "$out/heater_zone_prediction.json.tmp" "$out/heater_zone_prediction.json"
 
 # Pattern for further steps: banner "what this step shows"; run "$bin" COMMAND ...; files go to "$out".
 
+# ---- check the model against the closed-loop recording (h3) ----
+banner "check the model against the zone's closed-loop recording (PI 1.2 (s + 0.005)/s, heater 0-100 %)"
+check_status=0
+run "$bin" check "$out/heater_zone_model.json" --controller pi:0.005 --gain 1.2 \
+  "$here/heater_zone_closed_loop.csv" --actuator 0:100 --plot "$out/heater_zone_check.svg" \
+  --save "$out/heater_zone_check.json" || check_status=$?
+echo "check verdict: $(sed -n 's/.*"verdict": "\([a-z]*\)".*/\1/p' "$out/heater_zone_check.json") (exit $check_status; 0 confirmed, 1 stale or saturated)"
+
 # ---- figures and the report (h7): keep this the last step ----
 banner "assemble the one-page HTML report from the model, band, prediction and fit figure"
 report_inputs=("$out/heater_zone_model.json")
-for f in "$out"/*_band.json "$out"/*_prediction.json "$out"/*.svg; do
+for f in "$out"/*_band.json "$out"/*_prediction.json "$out"/*_check.json "$out"/*.svg; do
   [ -f "$f" ] && report_inputs+=("$f")
 done
 run "$bin" report "${report_inputs[@]}" --title "Extruder heater zone tuning (synthetic demo)" \
