@@ -188,6 +188,34 @@ TEST_CASE("check: several reference steps, each judged on its own segment") {
   CHECK(c.envelope_y_lo.size() == t.size());
 }
 
+TEST_CASE("check: the same result on one thread or two; without u the actuator is not judged") {
+  const TransferFunction g = Fopdt(1.8, 4.0, 0.6);
+  const Controller pi = Controller::Parse("pi:0.4");
+  const std::vector<double> t = Grid(0.05, 30.0);
+  const std::vector<double> r = Reference(t, 10.0, {{3.0, 12.0}});
+  const Rec rec = ClosedLoopRecord(g, pi, 1.6, t, r, 0.02, 21);
+  const std::vector<TransferFunction> draws = FopdtDraws(1.8, 4.0, 0.6, 0.03, 50, 9);
+  ClosedLoopCheckOptions one, two;
+  one.threads = 1;
+  two.threads = 2;
+  one.noise_replicates = two.noise_replicates = 20;
+  const ClosedLoopCheck a = CheckClosedLoop(g, draws, pi, 1.6, rec.View(), one);
+  const ClosedLoopCheck b = CheckClosedLoop(g, draws, pi, 1.6, rec.View(), two);
+  for (size_t i = 0; i < kCheckMetricCount; ++i) {
+    const MetricCheck &x = a.steps[0].metrics[i], &y = b.steps[0].metrics[i];
+    CHECK((x.lo == y.lo || (std::isnan(x.lo) && std::isnan(y.lo))));
+    CHECK((x.hi == y.hi || (std::isnan(x.hi) && std::isnan(y.hi))));
+  }
+  CHECK(a.envelope_y_hi == b.envelope_y_hi);
+  Rec no_u = rec;
+  no_u.u.clear();
+  const ClosedLoopCheck c = CheckClosedLoop(g, draws, pi, 1.6, no_u.View(), one);
+  CHECK_FALSE(c.has_u);
+  CHECK_FALSE(c.steps[0].metric(CheckMetric::kPeakActuator).judged);
+  CHECK(c.steps[0].metric(CheckMetric::kOvershoot).judged);
+  CHECK(c.verdict == CheckVerdict::kConfirmed);
+}
+
 TEST_CASE("check: refusals name what is wrong") {
   const TransferFunction g = Fopdt(1.0, 1.0, 0.1);
   const Controller p;
