@@ -576,6 +576,20 @@ ClosedLoopCheck CheckClosedLoop(const TransferFunction& plant,
   c.draws = draws.size();
   c.noise_replicates = options.noise_replicates;
 
+  if (k0 >= 6) {
+    double first = 0.0, second = 0.0;
+    const size_t half = k0 / 2;
+    for (size_t k = 0; k < half; ++k) first += record.y[k] / static_cast<double>(half);
+    for (size_t k = k0 - half; k < k0; ++k) second += record.y[k] / static_cast<double>(half);
+    const double se = c.sd_output * std::sqrt(2.0 / static_cast<double>(half));
+    const double band = options.settle_band * std::abs(s.steps[0].to - s.steps[0].from);
+    if (std::abs(second - first) > 4.0 * se + band) {
+      c.notes.push_back("the output moves from about " + Num(first) + " to " + Num(second) +
+                        " before the first reference step at t = " + Num(s.steps[0].at) +
+                        " s: the loop may not be at rest there, which the prediction assumes");
+    }
+  }
+
   // Nominal prediction and fit.
   Trace nominal = PredictTrace(s, plant);
   {

@@ -161,6 +161,10 @@ struct ClosedLoopCheck {
   bool has_u = false;
   CheckVerdict verdict = CheckVerdict::kConfirmed;
   std::string reason;  // one line, no trailing period
+  // Sentences about the record worth a warning, e.g. when the output drifts before the first
+  // step (the means of the two halves of the samples before it differ by more than 4 of their
+  // standard errors plus the settling band of the first step): the prediction assumes rest.
+  std::vector<std::string> notes;
 };
 
 // plant: the model (nominal); draws: plausible plants from its uncertainty (may be empty);

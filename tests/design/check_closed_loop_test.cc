@@ -184,6 +184,7 @@ TEST_CASE("check: several reference steps, each judged on its own segment") {
   CHECK(c.steps[0].end == c.steps[1].step);
   CHECK(c.steps[2].end == t.size());
   CHECK(c.verdict == CheckVerdict::kConfirmed);
+  CHECK(c.notes.empty());
   CHECK(c.predicted_y.size() == t.size());
   CHECK(c.envelope_y_lo.size() == t.size());
 }
@@ -214,6 +215,29 @@ TEST_CASE("check: the same result on one thread or two; without u the actuator i
   CHECK_FALSE(c.steps[0].metric(CheckMetric::kPeakActuator).judged);
   CHECK(c.steps[0].metric(CheckMetric::kOvershoot).judged);
   CHECK(c.verdict == CheckVerdict::kConfirmed);
+}
+
+TEST_CASE("check: an output still moving before the first step is noted") {
+  // The loop of the test above, its record cut to start 1 s after an earlier step: the output
+  // is still on its way when the recorded reference steps again.
+  const TransferFunction g = Fopdt(0.9, 2.0, 0.3);
+  const Controller pi = Controller::Parse("pi:0.5");
+  const std::vector<double> t = Grid(0.05, 40.0);
+  const std::vector<double> r = Reference(t, 1.0, {{1.0, 3.0}, {3.0, 4.0}});
+  const Rec full = ClosedLoopRecord(g, pi, 1.5, t, r, 0.01, 12);
+  const size_t cut = 20;  // t = 1 s
+  Rec rec;
+  for (size_t k = cut; k < t.size(); ++k) {
+    rec.t.push_back(t[k] - t[cut]);
+    rec.r.push_back(full.r[k]);
+    rec.u.push_back(full.u[k]);
+    rec.y.push_back(full.y[k]);
+  }
+  ClosedLoopCheckOptions o;
+  o.noise_replicates = 20;
+  const ClosedLoopCheck c = CheckClosedLoop(g, {}, pi, 1.5, rec.View(), o);
+  REQUIRE(c.notes.size() == 1);
+  CHECK(c.notes[0].find("not be at rest") != std::string::npos);
 }
 
 TEST_CASE("check: refusals name what is wrong") {
