@@ -5,6 +5,7 @@
 
 #include <fcntl.h>
 #include <stdlib.h>
+#include <sys/ioctl.h>
 #include <termios.h>
 #include <unistd.h>
 
@@ -52,12 +53,19 @@ std::string Errno(const std::string& what) { return what + ": " + std::strerror(
 
 struct RigEmulatorServer::Impl {
   Impl(RigEmulator& r, RigEmulatorServerOptions o)
-      : rig(r), options(std::move(o)), timer(ctx), signals(ctx), pty(ctx), acceptor(ctx) {}
+      : rig(r),
+        options(std::move(o)),
+        timer(ctx),
+        close_timer(ctx),
+        signals(ctx),
+        pty(ctx),
+        acceptor(ctx) {}
 
   RigEmulator& rig;
   RigEmulatorServerOptions options;
   asio::io_context ctx;
   asio::steady_timer timer;
+  asio::steady_timer close_timer;
   asio::signal_set signals;
   // Pseudo-terminal.
   asio::posix::stream_descriptor pty;
@@ -71,6 +79,7 @@ struct RigEmulatorServer::Impl {
   std::string pending, writing;
   bool write_in_flight = false;
   bool closing = false;
+  Clock::time_point close_deadline;
   Ending ending = Ending::kSignal;
   std::uint64_t trips_seen = 0;
 
@@ -153,11 +162,9 @@ struct RigEmulatorServer::Impl {
         LinkLost("writing failed: " + ec.message());
         return;
       }
-      if (closing) {
-        if (pending.empty()) {
-          Shutdown();
-          return;
-        }
+      if (closing && pending.empty()) {
+        Drain();
+        return;
       }
       StartWrite();
     };
@@ -258,26 +265,53 @@ struct RigEmulatorServer::Impl {
     });
   }
 
-  // Lets queued lines go out (for at most 2 s), then closes.
+  // Lets queued lines go out and, on a pseudo-terminal, be read by the host (closing the
+  // device end discards what the host has not read yet), for at most 2 s; then closes.
   void BeginClose(Ending why) {
     if (closing) return;
     closing = true;
     ending = why;
+    close_deadline = Clock::now() + std::chrono::seconds(2);
     timer.cancel();
+    close_timer.expires_at(close_deadline);
+    close_timer.async_wait([this](const boost::system::error_code& ec) {
+      if (!ec) Shutdown();
+    });
     if (!write_in_flight && pending.empty()) {
+      Drain();
+    } else {
+      StartWrite();
+    }
+  }
+
+  void Drain() {
+    if (write_in_flight) return;
+    int unread = 0;
+    if (!tcp() && pty_device_fd >= 0 && ::ioctl(pty_device_fd, TIOCINQ, &unread) != 0) unread = 0;
+    if (tcp() && client) {
+      boost::system::error_code ignored;
+      client->shutdown(asio::ip::tcp::socket::shutdown_send, ignored);
+    }
+    if ((unread == 0 && !tcp()) || Clock::now() >= close_deadline) {
       Shutdown();
       return;
     }
-    StartWrite();
-    timer.expires_after(std::chrono::seconds(2));
+    // TCP: give the host a moment to read what is in flight before the socket closes.
+    timer.expires_after(std::chrono::milliseconds(tcp() ? 100 : 5));
     timer.async_wait([this](const boost::system::error_code& ec) {
-      if (!ec) Shutdown();
+      if (ec) return;
+      if (tcp()) {
+        Shutdown();
+      } else {
+        Drain();
+      }
     });
   }
 
   void Shutdown() {
     boost::system::error_code ignored;
     timer.cancel();
+    close_timer.cancel();
     signals.cancel(ignored);
     acceptor.close(ignored);
     if (client) client->close(ignored);
@@ -353,6 +387,9 @@ RigEmulatorServer::~RigEmulatorServer() {
 
 std::string RigEmulatorServer::Open() {
   Impl& s = *impl_;
+  // Caught from here on (a signal before Run() waits in the set), so a script that stops the
+  // emulator right after reading where it serves always gets a clean exit.
+  for (int sig : s.options.stop_signals) s.signals.add(sig);
   if (!s.options.log_path.empty()) {
     s.log.open(s.options.log_path, std::ios::out | std::ios::trunc);
     if (!s.log) throw UsageError("cannot write the traffic log '" + s.options.log_path + "'");
@@ -364,7 +401,6 @@ RigEmulatorServer::Ending RigEmulatorServer::Run(
     const std::function<void(const RigEmulatorNote&)>& on_note) {
   Impl& s = *impl_;
   s.on_note = on_note;
-  for (int sig : s.options.stop_signals) s.signals.add(sig);
   if (!s.options.stop_signals.empty()) {
     s.signals.async_wait([&s](const boost::system::error_code& ec, int) {
       if (!ec) s.BeginClose(Ending::kSignal);

@@ -39,7 +39,7 @@ struct RigEmulatorServerOptions {
   std::uint16_t port = 0;          // kTcp: 0 picks a free port
   double speed = 1.0;              // rig time per real time, 1e-3 .. 1e6
   std::string log_path;            // traffic log; empty for none
-  std::vector<int> stop_signals;   // signals that end Run() cleanly (SIGINT, SIGTERM, ...)
+  std::vector<int> stop_signals;   // end Run() cleanly (SIGINT, SIGTERM, ...); caught from Open()
 
   // Throws UsageError naming the field, its value and the rule it broke.
   void Validate() const;

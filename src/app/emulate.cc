@@ -104,7 +104,8 @@ class EmulateCommand : public Command {
     sub.add_option("--quantize", quantize_, "Sensor resolution: round the output to a multiple");
     sub.add_option("--saturate", saturate_,
                    "Actuator range LO:HI (default: the scenario's, else 0:100)");
-    sub.add_option("--safe", safe_, "Safe actuator value (default: the scenario's, else LO)");
+    sub.add_option("--safe", safe_,
+                   "Safe actuator value (default: the scenario's, else 0 when in range, else LO)");
     sub.add_option("--watchdog", watchdog_ms_,
                    "Milliseconds without a host line before the rig goes safe");
     sub.add_option("--name", name_, "Rig name reported to the host (no spaces)");
@@ -205,7 +206,7 @@ class EmulateCommand : public Command {
     if (safe_) {
       safe = *safe_;
     } else if (!safe || *safe < range.first || *safe > range.second) {
-      safe = range.first;
+      safe = range.first <= 0.0 && range.second >= 0.0 ? 0.0 : range.first;
     }
     o.safe_value = *safe;
     if (!(o.safe_value >= o.actuator_lo && o.safe_value <= o.actuator_hi)) {
