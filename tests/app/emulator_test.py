@@ -414,6 +414,46 @@ def case_disconnect():
     host.close()
 
 
+def case_model_file():
+    # A model file as `fit -o` writes it (io/model_file.h): G(s) = 3 exp(-0.05 s)/(s + 2), at
+    # rest at the safe value 2 (y = G(0) 2 = 3), stepped to 4 over TCP. Closed form:
+    # y(t) = 3 + 1.5 * 2 * (1 - exp(-2 (t - t0 - 0.05))) for t - t0 >= 0.05.
+    import json
+    model = os.path.join(WORK, "model.json")
+    with open(model, "w") as f:
+        json.dump({"format": "loopwright-model", "version": 1, "structure": "first order",
+                   "tf": {"num": [3.0], "den": [1.0, 2.0], "delay": 0.05}, "parameters": [],
+                   "covariance": None,
+                   "provenance": {"source": "", "source_sha256": "",
+                                  "created": "2026-12-02T03:00:00Z", "tool": "hand",
+                                  "command_line": ""}, "details": {}}, f)
+    emu = Emulator("--model", model, "--listen", "tcp:127.0.0.1:0", "--rate", "50",
+                   "--saturate", "0:10", "--safe", "2", "--speed", "4", "--name", "bench-7")
+    host = Host(emu.where)
+    host.send("hello 1")
+    host.send("go")
+    first, _ = collect(host, lambda f: f[0] == "s", timeout=5)
+    host.send("u 4")
+    lines, bad = collect(host, lambda f: False, timeout=0.8)
+    host.close()
+    emu.stop()
+    caps = [f for f in first if f[0] == "caps"]
+    check(caps and caps[0][2:9] == ["1", "20000", "0", "10", "2", "1000", "bench-7"],
+          f"caps from the options ({caps})")
+    rest = [x for x in samples_of(first + lines) if x[3] == 2.0]
+    check(rest and all(abs(x[4] - 3.0) < 1e-9 for x in rest), "at rest at the safe value y = 3")
+    stepped = [x for x in samples_of(lines) if x[3] == 4.0]
+    check(len(stepped) > 20, f"samples after the step ({len(stepped)})")
+    if stepped:
+        t0 = stepped[0][1] * 1e-6
+        worst = 0.0
+        for _, t_us, _, _, y in stepped:
+            tau = t_us * 1e-6 - t0 - 0.05
+            want = 3.0 + (3.0 * (1.0 - pow(2.718281828459045, -2.0 * tau)) if tau >= 0 else 0.0)
+            worst = max(worst, abs(y - want))
+        check(worst < 1e-7, f"samples equal the closed form (worst {worst:.3g})")
+
+
 def case_errors():
     def run(*args):
         p = subprocess.run([BIN, "emulate", *args], capture_output=True, text=True, timeout=30)
