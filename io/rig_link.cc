@@ -178,9 +178,11 @@ struct RigLink::State {
       } catch (const std::exception& e) {
         if (failure.empty()) failure = e.what();
       }
-      FlushPending();
-      std::lock_guard<std::mutex> lock(counts_mutex);
-      counts = splitter.counts();
+      {
+        std::lock_guard<std::mutex> lock(counts_mutex);
+        counts = splitter.counts();
+      }
+      FlushPending();  // after the counts, so a queued event is never ahead of them
     }
     if (!error && failure.empty() && !ended) {
       StartRead();
@@ -208,11 +210,11 @@ struct RigLink::State {
     } catch (const std::exception&) {
       // The handler's failure on a cut-off last line changes nothing: the link is ending.
     }
-    FlushPending();
     {
       std::lock_guard<std::mutex> lock(counts_mutex);
       counts = splitter.counts();
     }
+    FlushPending();
     transport->Close();
     guard.reset();
     {

@@ -101,7 +101,9 @@ class RigLink {
   // True once reading ended (the rig closed the link, an error, or Close()).
   bool closed() const;
 
-  // A snapshot of the incoming stream's counts.
+  // A snapshot of the incoming stream's counts, updated once per read: in queue mode it already
+  // counts every event NextEvent can return; in handler mode it catches up when the handlers of
+  // that read have returned.
   RigStreamCounts counts() const;
   // The port, as text, for messages.
   const std::string& description() const;

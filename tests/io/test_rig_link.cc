@@ -161,11 +161,12 @@ TEST_CASE("rig link over loopback TCP") {
 }
 
 TEST_CASE("handler mode: events in stream order on the link's thread, replies from a handler") {
-  LinkPair pair = SocketPair();
+  // Declared before the links, so they outlive the handlers that use them.
   std::mutex mutex;
   std::condition_variable done;
   std::vector<std::uint32_t> seen;
   std::string close_message = "(not closed)";
+  LinkPair pair = SocketPair();
   // The rig acknowledges every host line from inside its handler.
   pair.rig->Start(
       [&](const RigLineEvent& event) {
