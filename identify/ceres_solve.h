@@ -4,6 +4,7 @@
 #ifndef LOOPWRIGHT_IDENTIFY_CERES_SOLVE_H_
 #define LOOPWRIGHT_IDENTIFY_CERES_SOLVE_H_
 
+#include <cstddef>
 #include <string>
 #include <vector>
 
@@ -21,6 +22,9 @@ struct SolveOptions {
   double parameter_tolerance = 1e-12;
   double gradient_tolerance = 1e-14;
   bool compute_covariance = true;
+  // Output-error solves with more fitted samples than this run on the compressed Gauss-Newton
+  // model (output_error.h): the same steps, O(p^2) memory instead of O(N p).
+  size_t compress_above = 5000;
 };
 
 struct CeresRun {

@@ -88,6 +88,12 @@ struct Prepared {
 
 Prepared Prepare(const StepRecording& rec, double u_base, size_t stride) {
   Prepared p;
+  const size_t kept = (rec.t.size() + stride - 1) / stride;
+  p.v.reserve(kept);
+  if (stride > 1) {
+    p.t_own.reserve(kept);
+    p.y_own.reserve(kept);
+  }
   for (size_t i = 0; i < rec.t.size(); i += stride) {
     if (stride > 1) {
       p.t_own.push_back(rec.t[i]);
@@ -150,6 +156,7 @@ SolveReport CoarseFit(Structure s, const StepRecording& rec, const RecordingAnal
   SolveOptions so;
   so.max_iterations = 50;
   so.compute_covariance = false;
+  so.compress_above = 0;  // starting points only: the compressed model at every size
   OutputErrorProblem cpb = coarse.problem();
   cpb.structure = s;
   return SolveMultiStart(cpb, StartingValues(s, rec, a, seed), fixed, lo, hi, so);
@@ -276,16 +283,17 @@ FitResult FitStructure(Structure s, const StepRecording& rec, const RecordingAna
   if (!fixed[DriftIndex(s)]) fit.output_drift = estimate("output_drift", yu + "/s", DriftIndex(s));
   fit.tf = StructureTransferFunction(s, fit.values);
 
-  // Quality of the fit on every sample, unweighted.
+  // Quality of the fit on every sample, unweighted (r = yhat - y; only |r| is used below).
   OutputErrorProblem plain = fpb;
   plain.weight = {};
-  std::vector<double> yhat = PredictOutput(plain, report.x);
+  plain.first_residual = 0;
+  std::vector<double> r(n);
+  EvaluateOutputError(plain, report.x, r.data(), nullptr);
+  full = Prepared{};  // the input deviations are no longer needed
   double rss = 0.0, ss = 0.0, ymean = 0.0;
   for (double v : rec.y) ymean += v;
   ymean /= static_cast<double>(n);
-  std::vector<double> r(n);
   for (size_t k = 0; k < n; ++k) {
-    r[k] = rec.y[k] - yhat[k];
     rss += r[k] * r[k];
     ss += (rec.y[k] - ymean) * (rec.y[k] - ymean);
   }

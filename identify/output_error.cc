@@ -34,99 +34,214 @@ class RowSink {
   void (*call_)(void*, size_t, double, const double*);
 };
 
-// The kernel for the structures whose dynamic parameter count is D.
-template <int D, typename T, typename Emit>
-void RunKernelD(Structure s, const T* dyn, const SampleGrid& grid, std::span<const double> v,
-                bool zero_initial, Emit&& emit) {
-  if constexpr (D == 2) {
-    if (s == Structure::kFopdt) {
-      kernel::Run<Structure::kFopdt>(dyn, grid, v, zero_initial, emit);
-    } else {
-      kernel::Run<Structure::kIntegrating>(dyn, grid, v, zero_initial, emit);
-    }
-  } else {
-    if (s == Structure::kSopdt) {
-      kernel::Run<Structure::kSopdt>(dyn, grid, v, zero_initial, emit);
-    } else if (s == Structure::kSopdtZero) {
-      kernel::Run<Structure::kSopdtZero>(dyn, grid, v, zero_initial, emit);
-    } else {
-      kernel::Run<Structure::kUnderdamped>(dyn, grid, v, zero_initial, emit);
-    }
-  }
-}
-
-// Calls row(index, residual, jacobian_row_or_null) for every fitted sample.
-template <int D>
-void ForEachRow(const OutputErrorProblem& pb, std::span<const double> x, bool with_jacobian,
-                const RowSink& row) {
-  const Structure s = pb.structure;
-  const int ps = ParameterCount(s);
-  const int p = ps + 2;
+// Calls row(index, residual, jacobian_row_or_null) for every fitted sample of structure S. The
+// Jacobian row has the full layout (FullParameterCount entries).
+template <Structure S, typename Sink>
+void ForEachRowOf(const OutputErrorProblem& pb, const SampleGrid& grid, std::span<const double> x,
+                  bool with_jacobian, Sink& row) {
+  constexpr int D = DynamicCount(S);
+  constexpr bool kZero = S == Structure::kSopdtZero;
+  // y = K x1 (fopdt, underdamped) or K x2 (sopdt, integrating); sopdt-zero weights both.
+  constexpr bool kFirstState = S == Structure::kFopdt || S == Structure::kUnderdamped;
+  const int ps = ParameterCount(S);
   const double k_gain = x[0];
   const double y0 = x[ps];
   const double drift = x[ps + 1];
   const double t0 = pb.t.empty() ? 0.0 : pb.t[0];
-  const bool has_zero = s == Structure::kSopdtZero;
-  const double tau2 = has_zero ? x[2] : 1.0;
-  const double tauz = has_zero ? x[3] : 0.0;
-  const SampleGrid grid = MakeSampleGrid(pb.t);
-  auto sqrt_weight = [&](size_t k) { return pb.weight.empty() ? 1.0 : std::sqrt(pb.weight[k]); };
+  const double tau2 = kZero ? x[2] : 1.0;
+  const double tauz = kZero ? x[3] : 0.0;
+  const size_t first = pb.first_residual;
+  const bool weighted = !pb.weight.empty();
+  auto sqrt_weight = [&](size_t k) { return weighted ? std::sqrt(pb.weight[k]) : 1.0; };
   int dyn_index[D];
-  for (int i = 0; i < D; ++i) dyn_index[i] = FullIndexOfDynamic(s, i);
+  for (int i = 0; i < D; ++i) dyn_index[i] = FullIndexOfDynamic(S, i);
   if (!with_jacobian) {
     double dyn[D];
-    for (int i = 0; i < D; ++i) dyn[i] = x[FullIndexOfDynamic(s, i)];
+    for (int i = 0; i < D; ++i) dyn[i] = x[dyn_index[i]];
     double w0 = 0.0, w1 = 0.0;
-    OutputWeights(s, tau2, tauz, w0, w1);
-    RunKernelD<D>(s, dyn, grid, pb.v, pb.zero_initial, [&](size_t k, double x1, double x2) {
-      if (k < pb.first_residual) return;
-      double yhat = y0 + drift * (pb.t[k] - t0) + k_gain * (w0 * x1 + w1 * x2);
-      row(k - pb.first_residual, sqrt_weight(k) * (yhat - pb.y[k]), nullptr);
+    OutputWeights(S, tau2, tauz, w0, w1);
+    kernel::Run<S>(dyn, grid, pb.v, pb.zero_initial, [&](size_t k, double x1, double x2) {
+      if (k < first) return;
+      const double shape = kZero ? w0 * x1 + w1 * x2 : (kFirstState ? x1 : x2);
+      const double yhat = y0 + drift * (pb.t[k] - t0) + k_gain * shape;
+      row(k - first, sqrt_weight(k) * (yhat - pb.y[k]), static_cast<const double*>(nullptr));
     });
     return;
   }
   using J = ceres::Jet<double, D>;
   J dyn[D];
-  for (int i = 0; i < D; ++i) dyn[i] = J(x[FullIndexOfDynamic(s, i)], i);
+  for (int i = 0; i < D; ++i) dyn[i] = J(x[dyn_index[i]], i);
   J w0, w1;
-  OutputWeights(s, has_zero ? dyn[1] : J(1.0), J(tauz), w0, w1);
-  std::vector<double> jrow(p, 0.0);
-  RunKernelD<D>(s, dyn, grid, pb.v, pb.zero_initial, [&](size_t k, const J& x1, const J& x2) {
-    if (k < pb.first_residual) return;
+  OutputWeights(S, kZero ? dyn[1] : J(1.0), J(tauz), w0, w1);
+  double jrow[kMaxFullParameters] = {};
+  kernel::Run<S>(dyn, grid, pb.v, pb.zero_initial, [&](size_t k, const J& x1, const J& x2) {
+    if (k < first) return;
     const double sw = sqrt_weight(k);
-    J shape = w0 * x1 + w1 * x2;
-    double yhat = y0 + drift * (pb.t[k] - t0) + k_gain * shape.a;
-    jrow[0] = sw * shape.a;
-    for (int i = 0; i < D; ++i) jrow[dyn_index[i]] = sw * k_gain * shape.v[i];
-    if (has_zero) jrow[3] = sw * k_gain * (x1.a - x2.a) / tau2;
-    jrow[ps] = sw;
-    jrow[ps + 1] = sw * (pb.t[k] - t0);
-    row(k - pb.first_residual, sw * (yhat - pb.y[k]), jrow.data());
+    auto emit = [&](const J& shape) {
+      const double yhat = y0 + drift * (pb.t[k] - t0) + k_gain * shape.a;
+      jrow[0] = sw * shape.a;
+      for (int i = 0; i < D; ++i) jrow[dyn_index[i]] = sw * k_gain * shape.v[i];
+      if constexpr (kZero) jrow[3] = sw * k_gain * (x1.a - x2.a) / tau2;
+      jrow[ps] = sw;
+      jrow[ps + 1] = sw * (pb.t[k] - t0);
+      row(k - first, sw * (yhat - pb.y[k]), static_cast<const double*>(jrow));
+    };
+    if constexpr (kZero) {
+      emit(w0 * x1 + w1 * x2);
+    } else {
+      emit(kFirstState ? x1 : x2);
+    }
   });
 }
 
-void Rows(const OutputErrorProblem& pb, std::span<const double> x, bool with_jacobian,
-          const RowSink& row) {
+// Every fitted row on a grid made once by the caller (the grid scan is O(N)).
+template <typename Sink>
+void Rows(const OutputErrorProblem& pb, const SampleGrid& grid, std::span<const double> x,
+          bool with_jacobian, Sink& row) {
   if (static_cast<int>(x.size()) != FullParameterCount(pb.structure)) {
     throw UsageError("output-error problem: parameter vector has the wrong size");
   }
-  if (DynamicCount(pb.structure) == 2) {
-    ForEachRow<2>(pb, x, with_jacobian, row);
-  } else {
-    ForEachRow<3>(pb, x, with_jacobian, row);
+  switch (pb.structure) {
+    case Structure::kFopdt:
+      return ForEachRowOf<Structure::kFopdt>(pb, grid, x, with_jacobian, row);
+    case Structure::kSopdt:
+      return ForEachRowOf<Structure::kSopdt>(pb, grid, x, with_jacobian, row);
+    case Structure::kUnderdamped:
+      return ForEachRowOf<Structure::kUnderdamped>(pb, grid, x, with_jacobian, row);
+    case Structure::kIntegrating:
+      return ForEachRowOf<Structure::kIntegrating>(pb, grid, x, with_jacobian, row);
+    case Structure::kSopdtZero:
+      return ForEachRowOf<Structure::kSopdtZero>(pb, grid, x, with_jacobian, row);
   }
+}
+
+// The generic (type-erased) callers share one instantiation.
+void Rows(const OutputErrorProblem& pb, std::span<const double> x, bool with_jacobian,
+          const RowSink& row) {
+  Rows(pb, MakeSampleGrid(pb.t), x, with_jacobian, row);
 }
 
 size_t ResidualCount(const OutputErrorProblem& pb) {
   return pb.t.size() > pb.first_residual ? pb.t.size() - pb.first_residual : 0;
 }
 
+// The sum of squared residuals, and whether every residual was finite.
+struct SquareSum {
+  double rss = 0.0;
+  bool finite = true;
+  void operator()(size_t, double r, const double*) {
+    rss += r * r;
+    finite = finite && std::isfinite(r);
+  }
+};
+
+// The augmented normal matrix [J r]'[J r] accumulated row by row over the chosen Jacobian
+// columns (full layout) and the residual, stored in column kResidual; other entries stay zero.
+// Rows are gathered in blocks so that each entry of the lower triangle is updated by one
+// contiguous dot product per block. O(p^2) memory whatever the record length.
+class GramSink {
+ public:
+  static constexpr int kResidual = kMaxFullParameters;
+  using Matrix = Eigen::Matrix<double, kResidual + 1, kResidual + 1>;
+  explicit GramSink(const std::vector<int>& columns) : count_(static_cast<int>(columns.size())) {
+    std::copy(columns.begin(), columns.end(), columns_);
+    columns_[count_++] = kResidual;
+    gram_.setZero();
+    block_.setZero();
+  }
+  // jrow has kMaxFullParameters entries (the value-only pass never calls this sink).
+  void operator()(size_t, double r, const double* jrow) {
+    if (jrow) {
+      for (int i = 0; i < kResidual; ++i) block_(i, used_) = jrow[i];
+    }
+    block_(kResidual, used_) = r;
+    if (++used_ == kBlock) Flush();
+  }
+  // The finished matrix, symmetric (call once, after the last row).
+  const Matrix& Gram() {
+    if (used_ > 0) {
+      block_.rightCols(kBlock - used_).setZero();
+      Flush();
+    }
+    for (int a = 0; a < count_; ++a) {
+      for (int b = 0; b <= a; ++b) {
+        gram_(columns_[a], columns_[b]) = gram_(columns_[b], columns_[a]) = packed_(a, b);
+      }
+    }
+    return gram_;
+  }
+
+ private:
+  static constexpr int kBlock = 32;
+  void Flush() {
+    for (int a = 0; a < count_; ++a) {
+      for (int b = 0; b <= a; ++b) {
+        packed_(a, b) += block_.row(columns_[a]).dot(block_.row(columns_[b]));
+      }
+    }
+    used_ = 0;
+  }
+  int columns_[kResidual + 1] = {};
+  int count_;
+  int used_ = 0;
+  Matrix gram_;
+  Matrix packed_ = Matrix::Zero();  // lower triangle over columns_ order
+  Eigen::Matrix<double, kResidual + 1, kBlock, Eigen::RowMajor> block_;
+};
+
+std::vector<int> FreeIndices(const std::vector<bool>& fixed) {
+  std::vector<int> free;
+  for (int i = 0; i < static_cast<int>(fixed.size()); ++i) {
+    if (!fixed[i]) free.push_back(i);
+  }
+  return free;
+}
+
+std::vector<int> AllIndices(int p) {
+  std::vector<int> all(p);
+  for (int i = 0; i < p; ++i) all[i] = i;
+  return all;
+}
+
+void CovarianceFromNormal(const OutputErrorProblem& problem, const std::vector<bool>& fixed,
+                          const Eigen::MatrixXd& jtj, SolveReport& report);
+
+// One Jacobian evaluation of a compressed cost.
+struct Linearisation {
+  bool valid = false;
+  std::vector<double> x;  // full layout
+  GramSink::Matrix gram;  // over the free columns and the residual
+  std::vector<double> residuals, jacobian;
+};
+
+// The last two Jacobian evaluations of a compressed cost, kept outside it (Ceres owns and
+// deletes the cost): Ceres' bounded line search asks for the Jacobian at a candidate and asks
+// again once it accepts it, and the covariance wants J'J at the solution, which is the
+// candidate before a final one Ceres declined (function tolerance reached).
+class RecentLinearisations {
+ public:
+  const Linearisation* Find(const std::vector<double>& x) const {
+    for (const Linearisation& l : slots_) {
+      if (l.valid && l.x == x) return &l;
+    }
+    return nullptr;
+  }
+  Linearisation& Next() {
+    newest_ ^= 1;
+    return slots_[newest_];
+  }
+
+ private:
+  Linearisation slots_[2];
+  int newest_ = 0;
+};
+
 // The residual block Ceres sees: only the free parameters form its parameter block (held ones
 // are filled in from `base`), so Ceres stores no Jacobian columns for them.
 class OutputErrorCost : public ceres::CostFunction {
  public:
   OutputErrorCost(const OutputErrorProblem& pb, std::vector<double> base, std::vector<int> free)
-      : pb_(pb), base_(std::move(base)), free_(std::move(free)) {
+      : pb_(pb), grid_(MakeSampleGrid(pb.t)), base_(std::move(base)), free_(std::move(free)) {
     for (size_t c = 0; c < free_.size(); ++c) prefix_ = prefix_ && free_[c] == static_cast<int>(c);
     set_num_residuals(static_cast<int>(ResidualCount(pb)));
     mutable_parameter_block_sizes()->push_back(static_cast<int>(free_.size()));
@@ -150,15 +265,103 @@ class OutputErrorCost : public ceres::CostFunction {
         for (size_t c = 0; c < m; ++c) jac[i * m + c] = jrow[free_[c]];
       }
     };
-    Rows(pb_, x, jac != nullptr, sink);
+    RowSink rows(sink);
+    Rows(pb_, grid_, x, jac != nullptr, rows);
     return finite;
   }
 
  private:
   const OutputErrorProblem& pb_;
+  SampleGrid grid_;
   std::vector<double> base_;
   std::vector<int> free_;
   bool prefix_ = true;  // free_ is 0, 1, ..., m - 1
+};
+
+// The same least-squares problem compressed to m + 1 residuals (m free parameters), for long
+// records. With G = J'J = V L V' (eigen-decomposition), R = L^(1/2) V', c = L^(-1/2) V' J'r
+// (pseudo-inverse: directions with L below 1e-14 max(L) get c = 0) and
+// rho = sqrt(r'r - c'c), the residuals [c; rho] with the Jacobian [R; 0] have the cost r'r/2,
+// the gradient J'r and the Gauss-Newton matrix J'J of the N rows, so Ceres' Levenberg-Marquardt
+// takes the same steps. rho's Jacobian is zero to first order (the part of r orthogonal to the
+// columns of J does not move along them). One pass per evaluation, no N-row array anywhere.
+// Not for concurrent use (it records its Jacobian evaluations in `recent`).
+class CompressedOutputErrorCost : public ceres::CostFunction {
+ public:
+  CompressedOutputErrorCost(const OutputErrorProblem& pb, std::vector<double> base,
+                            std::vector<int> free, RecentLinearisations* recent)
+      : pb_(pb),
+        grid_(MakeSampleGrid(pb.t)),
+        base_(std::move(base)),
+        free_(std::move(free)),
+        recent_(recent) {
+    set_num_residuals(static_cast<int>(free_.size()) + 1);
+    mutable_parameter_block_sizes()->push_back(static_cast<int>(free_.size()));
+  }
+  bool Evaluate(double const* const* params, double* residuals, double** jacobians) const override {
+    std::vector<double> x = base_;
+    const int m = static_cast<int>(free_.size());
+    for (int c = 0; c < m; ++c) x[free_[c]] = params[0][c];
+    if (!IsPhysical(pb_.structure,
+                    std::span<const double>(x).first(ParameterCount(pb_.structure)))) {
+      return false;
+    }
+    const bool with_jacobian = jacobians != nullptr && jacobians[0] != nullptr;
+    if (const Linearisation* known = recent_->Find(x)) {
+      std::copy(known->residuals.begin(), known->residuals.end(), residuals);
+      if (with_jacobian) std::copy(known->jacobian.begin(), known->jacobian.end(), jacobians[0]);
+      return true;
+    }
+    std::fill_n(residuals, m + 1, 0.0);
+    if (!with_jacobian) {
+      SquareSum sum;
+      Rows(pb_, grid_, x, false, sum);
+      residuals[m] = std::sqrt(sum.rss);
+      return sum.finite && std::isfinite(sum.rss);
+    }
+    GramSink sink(free_);
+    Rows(pb_, grid_, x, true, sink);
+    const GramSink::Matrix& g = sink.Gram();
+    if (!g.allFinite()) return false;
+    const int p = GramSink::kResidual;
+    Eigen::MatrixXd gf(m, m);
+    Eigen::VectorXd jr(m);
+    for (int a = 0; a < m; ++a) {
+      jr[a] = g(free_[a], p);
+      for (int b = 0; b < m; ++b) gf(a, b) = g(free_[a], free_[b]);
+    }
+    Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(gf);
+    if (eig.info() != Eigen::Success) return false;
+    const Eigen::VectorXd& l = eig.eigenvalues();
+    const double floor = 1e-14 * std::max(l[m - 1], 0.0);
+    const Eigen::VectorXd proj = eig.eigenvectors().transpose() * jr;
+    double explained = 0.0;
+    Eigen::Map<Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor>> jac(
+        jacobians[0], m + 1, m);
+    jac.setZero();
+    for (int a = 0; a < m; ++a) {
+      if (!(l[a] > floor) || !(l[a] > 0.0)) continue;
+      const double root = std::sqrt(l[a]);
+      residuals[a] = proj[a] / root;
+      explained += residuals[a] * residuals[a];
+      jac.row(a) = root * eig.eigenvectors().col(a).transpose();
+    }
+    residuals[m] = std::sqrt(std::max(0.0, g(p, p) - explained));
+    Linearisation& keep = recent_->Next();
+    keep.valid = true;
+    keep.x = std::move(x);
+    keep.gram = g;
+    keep.residuals.assign(residuals, residuals + m + 1);
+    keep.jacobian.assign(jacobians[0], jacobians[0] + (m + 1) * m);
+    return true;
+  }
+
+ private:
+  const OutputErrorProblem& pb_;
+  SampleGrid grid_;
+  std::vector<double> base_;
+  std::vector<int> free_;
+  RecentLinearisations* recent_;
 };
 
 // r = R dx with a constant Jacobian R (R'R = J'J): the fit's linearisation compressed to
@@ -183,14 +386,6 @@ class CompressedCost : public ceres::CostFunction {
  private:
   Eigen::MatrixXd r_;
 };
-
-std::vector<int> FreeIndices(const std::vector<bool>& fixed) {
-  std::vector<int> free;
-  for (int i = 0; i < static_cast<int>(fixed.size()); ++i) {
-    if (!fixed[i]) free.push_back(i);
-  }
-  return free;
-}
 
 }  // namespace
 
@@ -225,13 +420,9 @@ std::vector<double> PredictOutput(const OutputErrorProblem& problem, std::span<c
 
 Eigen::MatrixXd NormalMatrix(const OutputErrorProblem& problem, std::span<const double> x) {
   const int p = FullParameterCount(problem.structure);
-  Eigen::MatrixXd jtj = Eigen::MatrixXd::Zero(p, p);
-  auto sink = [&](size_t, double, const double* jrow) {
-    Eigen::Map<const Eigen::VectorXd> row(jrow, p);
-    jtj.selfadjointView<Eigen::Lower>().rankUpdate(row);
-  };
-  Rows(problem, x, true, sink);
-  return jtj.selfadjointView<Eigen::Lower>();
+  GramSink sink(AllIndices(p));
+  Rows(problem, MakeSampleGrid(problem.t), x, true, sink);
+  return sink.Gram().topLeftCorner(p, p);
 }
 
 SolveReport SolveOutputError(const OutputErrorProblem& problem, std::vector<double> start,
@@ -261,15 +452,26 @@ SolveReport SolveOutputError(const OutputErrorProblem& problem, std::vector<doub
     lf.push_back(lower[i]);
     uf.push_back(upper[i]);
   }
-  CeresRun run = RunCeres(new OutputErrorCost(problem, report.x, free), xf,
-                          std::vector<bool>(free.size(), false), lf, uf, options, report.residuals);
+  const bool compress = report.residuals > options.compress_above;
+  RecentLinearisations recent;
+  ceres::CostFunction* cost = compress
+                                  ? static_cast<ceres::CostFunction*>(new CompressedOutputErrorCost(
+                                        problem, report.x, free, &recent))
+                                  : new OutputErrorCost(problem, report.x, free);
+  CeresRun run = RunCeres(cost, xf, std::vector<bool>(free.size(), false), lf, uf, options,
+                          compress ? free.size() + 1 : report.residuals);
   for (size_t c = 0; c < free.size(); ++c) report.x[free[c]] = xf[c];
   report.rss = run.rss;
   report.iterations = run.iterations;
   report.converged = run.converged;
   report.termination = run.termination;
   if (options.compute_covariance && run.usable) {
-    ComputeOutputErrorCovariance(problem, fixed, report);
+    if (const Linearisation* known = recent.Find(report.x)) {
+      const int p = FullParameterCount(problem.structure);
+      CovarianceFromNormal(problem, fixed, known->gram.topLeftCorner(p, p), report);
+    } else {
+      ComputeOutputErrorCovariance(problem, fixed, report);
+    }
   }
   report.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - begin).count();
   return report;
@@ -343,6 +545,15 @@ SolveReport SolveMultiStart(const OutputErrorProblem& problem,
 
 void ComputeOutputErrorCovariance(const OutputErrorProblem& problem, const std::vector<bool>& fixed,
                                   SolveReport& report) {
+  CovarianceFromNormal(problem, fixed, NormalMatrix(problem, report.x), report);
+}
+
+namespace {
+
+// The covariance fields of report from J'J at report.x (only the free rows and columns of jtj
+// are read).
+void CovarianceFromNormal(const OutputErrorProblem& problem, const std::vector<bool>& fixed,
+                          const Eigen::MatrixXd& jtj, SolveReport& report) {
   const Structure s = problem.structure;
   const int p = FullParameterCount(s);
   const int dof = static_cast<int>(report.residuals) - report.free_parameters;
@@ -356,7 +567,6 @@ void ComputeOutputErrorCovariance(const OutputErrorProblem& problem, const std::
     return;
   }
   const double s2 = report.rss / dof;
-  const Eigen::MatrixXd jtj = NormalMatrix(problem, report.x);
   report.rank_deficiency = DescribeRankDeficiency(jtj, fixed, FullParameterNames(s));
   if (!report.rank_deficiency.empty()) return;
   // Ceres' covariance of the compressed linearisation R (R'R = J'J of the free parameters,
@@ -382,5 +592,7 @@ void ComputeOutputErrorCovariance(const OutputErrorProblem& problem, const std::
     report.rank_deficiency = "the covariance is rank-deficient (Ceres dense SVD)";
   }
 }
+
+}  // namespace
 
 }  // namespace lw

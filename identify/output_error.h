@@ -10,6 +10,12 @@
 // for the parameters that shape the states, and the output's linear parameters are
 // differentiated by hand (a test checks both against central differences).
 //
+// Long records (more fitted samples than SolveOptions::compress_above) are solved on the
+// compressed Gauss-Newton model: each Jacobian evaluation streams the rows once into the
+// augmented normal matrix [J r]'[J r] and gives Ceres m + 1 residuals with the same cost,
+// gradient and J'J (m free parameters), so Ceres takes the same Levenberg-Marquardt steps
+// without an N x m array; the J'J of the last accepted point is reused for the covariance.
+//
 // The covariance of x is Ceres' (J'J)^-1 (ceres::Covariance, dense SVD) scaled by the residual
 // variance s^2 = RSS / (n - p) with p the number of free parameters. To keep memory at O(p^2)
 // for long records, J'J is accumulated row by row and Ceres is given the equivalent p-row
@@ -41,7 +47,8 @@ struct OutputErrorProblem {
   size_t first_residual = 0;       // samples before this one are simulated but not fitted
 };
 
-// Size of x: structure parameters + y_offset + drift.
+// Size of x: structure parameters + y_offset + drift (at most kMaxFullParameters).
+inline constexpr int kMaxFullParameters = 7;
 inline int FullParameterCount(Structure s) { return ParameterCount(s) + 2; }
 inline int OffsetIndex(Structure s) { return ParameterCount(s); }
 inline int DriftIndex(Structure s) { return ParameterCount(s) + 1; }

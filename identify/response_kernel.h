@@ -46,7 +46,7 @@ SampleGrid MakeSampleGrid(std::span<const double> t);
 // Number of "dynamic" parameters (those that shape the states): every structure parameter but
 // the gain, and for sopdt-zero also not tauz (it only weights the output). Layout:
 //   fopdt, integrating: [tau, T]; sopdt, sopdt-zero: [tau1, tau2, T]; underdamped: [zeta, wn, T].
-inline int DynamicCount(Structure s) {
+constexpr int DynamicCount(Structure s) {
   return (s == Structure::kFopdt || s == Structure::kIntegrating) ? 2 : 3;
 }
 
