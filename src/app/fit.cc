@@ -2,25 +2,52 @@
 //
 //   loopwright fit REC.csv [--time C --input C --output C --time-unit U]
 //                  [--structure auto|fopdt|sopdt|underdamped|integrating|sopdt-zero]
-//                  [--window T0:T1] [--robust [--loss huber|cauchy]] [-o MODEL.json] [--json] [--plot FIG.svg]
+//                  [--window T0:T1] [--robust [--loss huber|cauchy]] [-o MODEL.json] [--json]
+//                  [--plot FIG.svg]
+//                  [--input-unit U] [--output-unit U]
 //   loopwright fit REC.csv --step-at T --step-size A ...   (no input column: a known step)
+//   loopwright fit REC.csv --closed-loop --gain K [--controller C] [--reference C] ...
+//   loopwright fit NEW.csv --compare OLD.json [--band OLD_BAND.json] [--gain K] ...
 //
 // Prints the parameters with 95 % intervals, the fit percentage, the criterion and warnings
 // (identify/fit.h explains the method). -o writes the model file (io/model_file.h) only after a
 // successful fit, atomically. Exit 3 for an unusable recording, 1 when no fit converges.
+//
+// --closed-loop: the recording was made under feedback (columns t, r, u, y); the plant is fitted
+// inside the known loop C = K shape (identify/closed_loop_fit.h).
+// --compare OLD.json / --band OLD_BAND.json: what changed against an older model and whether the
+// gain in use is still inside the bands found again on the new model (app/fit_compare.h).
+//
+// Units: the gain is in output unit / input unit, time constants and the dead time in seconds
+// (the time column is converted to seconds whatever --time-unit says). The units come from
+// --input-unit / --output-unit, else from the column name: "power[%]", "power (%)" or a last
+// "_" part that is a known unit ("temp_degC", "flow_lpm").
+//
+// Every output path (-o, --plot) is checked before anything is read or written: a figure with an
+// unknown extension, an output folder that does not exist or -o equal to --plot is refused (exit
+// 2) with no file left.
 #include <cmath>
 #include <limits>
 #include <optional>
 #include <string>
 #include <vector>
 
+#include <filesystem>
+
 #include "app/column_options.h"
 #include "app/command.h"
+#include "app/controller_option.h"
+#include "app/fit_compare.h"
 #include "app/fit_plot.h"
 #include "app/output.h"
+#include "app/summary_table.h"
+#include "app/workspace.h"
+#include "identify/closed_loop_fit.h"
 #include "identify/fit.h"
+#include "identify/model_text.h"
 #include "identify/structure_selection.h"
 #include "io/csv_reader.h"
+#include "io/figure.h"
 #include "io/model_file.h"
 #include "io/recording.h"
 #include "io/sha256.h"
@@ -104,6 +131,56 @@ nlohmann::json ResultJson(const Identification& id) {
   return doc;
 }
 
+// The unit a column name carries: "power[%]" / "power (%)" -> "%", "temp_degC" -> "degC" (the
+// part after the last '_' when it is a known unit); empty when there is none.
+std::string UnitOfColumnName(const std::string& name) {
+  for (auto [open, close] : {std::pair{'[', ']'}, std::pair{'(', ')'}}) {
+    size_t a = name.rfind(open);
+    if (a != std::string::npos && name.size() > a + 2 && name.back() == close) {
+      std::string unit = name.substr(a + 1, name.size() - a - 2);
+      while (!unit.empty() && unit.front() == ' ') unit.erase(unit.begin());
+      while (!unit.empty() && unit.back() == ' ') unit.pop_back();
+      if (!unit.empty()) return unit;
+    }
+  }
+  static const std::vector<std::string> known = {
+      "degC", "degF", "K",   "pct", "percent", "m",   "mm",  "cm",  "um",  "mps", "rpm",
+      "rads", "rad",  "deg", "bar", "mbar",    "Pa",  "kPa", "MPa", "psi", "V",   "mV",
+      "A",    "mA",   "W",   "kW",  "N",       "Nm",  "kg",  "g",   "lpm", "Hz",  "kHz",
+      "C",    "F",    "l",   "ml",  "m3h",     "kgh", "lph", "ms",  "s",   "min", "h"};
+  size_t us = name.rfind('_');
+  if (us == std::string::npos || us + 1 >= name.size()) return "";
+  std::string tail = name.substr(us + 1);
+  for (const auto& k : known) {
+    if (tail == k) return tail;
+  }
+  return "";
+}
+
+// The header name of a column chosen by name or 1-based position (recording.h's rule).
+std::string ColumnHeader(const Table& table, const std::string& chosen) {
+  for (const auto& n : table.names) {
+    if (n == chosen) return n;
+  }
+  if (!chosen.empty() && chosen.find_first_not_of("0123456789") == std::string::npos) {
+    size_t i = std::stoul(chosen);
+    if (i >= 1 && i <= table.names.size()) return table.names[i - 1];
+  }
+  return chosen;
+}
+
+// Refuses, before anything is written, an output that cannot be made: its folder is missing or
+// not a folder.
+void CheckOutputFolder(const std::string& path, const std::string& option) {
+  std::filesystem::path parent = std::filesystem::path(path).parent_path();
+  if (parent.empty()) return;
+  std::error_code ec;
+  if (!std::filesystem::is_directory(parent, ec)) {
+    throw UsageError(option + " '" + path + "': the folder '" + parent.string() +
+                     "' does not exist");
+  }
+}
+
 std::string Interval(const ParameterEstimate& p) {
   if (std::isnan(p.ci_low)) return "undetermined";
   return FormatNumber(p.ci_low) + " .. " + FormatNumber(p.ci_high);
@@ -113,7 +190,7 @@ class FitCommand : public Command {
  public:
   void Configure(CLI::App& sub) override {
     sub.add_option("recording", path_, "Step-test recording (CSV)")->required();
-    columns_.Add(sub, ColumnSet{true, true, false});
+    columns_.Add(sub, ColumnSet{true, true, true});
     sub.add_option("--structure", structure_,
                    "auto, fopdt, sopdt, underdamped, integrating or sopdt-zero")
         ->capture_default_str();
@@ -126,6 +203,19 @@ class FitCommand : public Command {
     sub.add_option("-o,--out", out_path_, "Write the model file (JSON) here");
     sub.add_flag("--json", json_, "Print one JSON document instead of text");
     sub.add_option("--plot", plot_path_, "Draw the fit over the recording (.svg, .png or .pdf)");
+    sub.add_option("--input-unit", input_unit_,
+                   "Unit of the input column (default: from its name)");
+    sub.add_option("--output-unit", output_unit_,
+                   "Unit of the output column (default: from its name)");
+    sub.add_flag("--closed-loop", closed_loop_,
+                 "The recording ran under feedback (t, r, u, y): fit the plant inside the loop "
+                 "given by --controller and --gain");
+    controller_.Add(sub, /*gain_required=*/false);
+    sub.add_option("--compare", compare_path_,
+                   "An older model file: show each parameter's change and its significance");
+    sub.add_option("--band", band_path_,
+                   "A band file (band -o): find the bands again on the new model; is the gain in "
+                   "use (--gain, else its recommended gain) still inside?");
   }
 
   int Run(Context& ctx) override {
@@ -148,35 +238,161 @@ class FitCommand : public Command {
       throw UsageError("--step-size " + FormatNumber(*step_size_) + ": must be a non-zero number");
     }
     options.Validate();
+    CheckOptions();
+
+    // Inputs that can be refused are read before the fit, so nothing runs on a bad file.
+    std::optional<ModelDocument> old_model;
+    if (!compare_path_.empty()) old_model = ReadModelFile(compare_path_);
+    std::optional<BandFile> band;
+    if (!band_path_.empty()) band = ReadBandFile(band_path_);
 
     Table table = ReadCsv(path_);
     const bool known_step = step_at_.has_value();
     Recording rec = SelectColumns(table, columns_.names(), /*need_input=*/!known_step,
-                                  /*need_output=*/true, /*need_reference=*/false, 3);
+                                  /*need_output=*/true, /*need_reference=*/closed_loop_, 3);
+    options.input_unit = !input_unit_.empty()
+                             ? input_unit_
+                             : UnitOfColumnName(ColumnHeader(table, columns_.names().input));
+    options.output_unit = !output_unit_.empty()
+                              ? output_unit_
+                              : UnitOfColumnName(ColumnHeader(table, columns_.names().output));
     StepRecording data;
     data.t = rec.t;
     data.y = rec.y;
     data.u = known_step ? KnownStepInput(rec.t, *step_at_, *step_size_) : rec.u;
 
     Identification id;
+    std::optional<ClosedLoopFit> loop_fit;
     try {
-      id = Identify(data, options);
+      if (closed_loop_) {
+        ClosedLoopFitOptions co;
+        co.structure = options.structure;
+        co.controller = controller_.Parse();
+        co.gain = controller_.gain();
+        co.input_unit = options.input_unit;
+        co.output_unit = options.output_unit;
+        loop_fit = FitClosedLoop(ClosedLoopRecording{rec.t, rec.r, rec.u, rec.y}, co);
+        id.model = loop_fit->model;
+        id.analysis = loop_fit->start.analysis;
+        id.samples_in = rec.t.size();
+        id.warnings = loop_fit->warnings;
+        id.automatic = loop_fit->automatic;
+        id.candidates = loop_fit->candidates;
+      } else {
+        id = Identify(data, options);
+      }
     } catch (const DataError& e) {
       throw DataError(path_ + ": " + e.what());
     }
     nlohmann::json doc = ResultJson(id);
+    doc["model_text"] = FactoredModelText(id.model.structure, id.model.values);
+    doc["units"] = {{"input", options.input_unit}, {"output", options.output_unit}, {"time", "s"}};
+    if (loop_fit) doc["closed_loop"] = ClosedLoopJson(*loop_fit);
+
+    std::optional<ModelComparison> comparison;
+    if (old_model) comparison = CompareWithOld(compare_path_, *old_model, id.model);
+    if (band) {
+      if (!comparison) comparison.emplace();
+      std::optional<double> in_use;
+      if (controller_.has_gain()) in_use = controller_.gain();
+      comparison->band = RecheckBand(*band, id.model, in_use);
+    }
+    if (comparison) doc["compare"] = ComparisonJson(*comparison);
+
     if (!out_path_.empty()) WriteModel(ctx, id, doc);
     if (!plot_path_.empty()) WriteFitPlot(plot_path_, path_, data, id);
     if (json_) {
       PrintJson(ctx, doc);
     } else {
-      PrintHuman(ctx, id);
+      PrintHuman(ctx, id, options);
+      if (loop_fit) PrintClosedLoop(ctx, *loop_fit);
+      if (comparison && old_model) PrintComparison(ctx, *comparison);
+      if (comparison && !old_model) PrintBandOnly(ctx, *comparison);
     }
     for (const auto& w : id.warnings) Warn(ctx, w);
+    std::vector<std::string> recordings = {path_};
+    LogResult(ctx, "fit", "ok", doc, recordings);
     return 0;
   }
 
  private:
+  // Option combinations and output paths, before anything is read or written.
+  void CheckOptions() const {
+    if (closed_loop_) {
+      if (!controller_.has_gain()) {
+        throw UsageError("--closed-loop needs --gain K: the gain the loop ran at");
+      }
+      controller_.gain();
+      controller_.Parse();
+      if (step_at_) {
+        throw UsageError(
+            "--closed-loop fits a recording with its input column; --step-at and "
+            "--step-size are for open-loop records without one");
+      }
+    } else {
+      if (controller_.text() != "p") {
+        throw UsageError(
+            "--controller is the loop's controller of --closed-loop (a band file "
+            "given with --band names its own)");
+      }
+      if (controller_.has_gain() && band_path_.empty()) {
+        throw UsageError(
+            "--gain is the loop's gain with --closed-loop, or the gain in use with "
+            "--band");
+      }
+      if (controller_.has_gain()) controller_.gain();
+    }
+    if (!plot_path_.empty()) {
+      FigureFormatOf(plot_path_);
+      CheckOutputFolder(plot_path_, "--plot");
+    }
+    if (!out_path_.empty()) CheckOutputFolder(out_path_, "-o");
+    if (!out_path_.empty() && !plot_path_.empty() &&
+        std::filesystem::absolute(out_path_).lexically_normal() ==
+            std::filesystem::absolute(plot_path_).lexically_normal()) {
+      throw UsageError("-o and --plot both name '" + out_path_ + "': give two different files");
+    }
+  }
+
+  nlohmann::json ClosedLoopJson(const ClosedLoopFit& f) const {
+    nlohmann::json start = {{"structure", std::string(StructureName(f.start.model.structure))},
+                            {"values", JsonNumbers(f.start.model.values)},
+                            {"fit_percent", JsonNumber(f.start.model.fit_percent)}};
+    return {{"controller", controller_.Parse().ToString()},
+            {"gain", JsonNumber(controller_.gain())},
+            {"input_fit_percent", JsonNumber(f.input_fit_percent)},
+            {"input_residual_rms", JsonNumber(f.input_residual_rms)},
+            {"input_baseline", JsonNumber(f.model.input_baseline)},
+            {"noise",
+             {{"output_sd", JsonNumber(f.output_sd)},
+              {"input_sd", JsonNumber(f.input_sd)},
+              {"input_sd_floored", f.input_sd_floored}}},
+            {"solves", f.solves},
+            {"open_loop_start", start}};
+  }
+
+  void PrintClosedLoop(Context& ctx, const ClosedLoopFit& f) const {
+    ctx.out << "closed loop: controller " << controller_.Parse().ToString()
+            << ", K = " << FormatNumber(controller_.gain()) << "; both channels fitted\n";
+    SummaryTable t({"channel", "fit %", "residual rms", "noise sd used"});
+    t.AddRow({"output y", FormatNumber(f.model.fit_percent), FormatNumber(f.model.residual_rms),
+              FormatNumber(f.output_sd)});
+    t.AddRow({"actuator u", FormatNumber(f.input_fit_percent), FormatNumber(f.input_residual_rms),
+              FormatNumber(f.input_sd) + (f.input_sd_floored ? " (floor K sd_y)" : "")});
+    t.Print(ctx);
+    ctx.out << "  started from the open-loop fit u -> y: "
+            << FactoredModelText(f.start.model.structure, f.start.model.values) << " (fit "
+            << FormatNumber(f.start.model.fit_percent) << " %)\n";
+  }
+
+  // --band without --compare: only the bands.
+  void PrintBandOnly(Context& ctx, const ModelComparison& c) const {
+    ModelComparison only = c;
+    only.changes.clear();
+    only.old_path = "(no --compare model)";
+    PrintComparison(ctx, only);
+  }
+
   void WriteModel(Context& ctx, const Identification& id, const nlohmann::json& doc) {
     const FitResult& m = id.model;
     ModelDocument md;
@@ -195,11 +411,14 @@ class FitCommand : public Command {
     WriteModelFile(out_path_, md);
   }
 
-  void PrintHuman(Context& ctx, const Identification& id) {
+  void PrintHuman(Context& ctx, const Identification& id, const FitOptions& options) {
     const FitResult& m = id.model;
     std::string how = id.automatic ? " (chosen by AICc)" : "";
-    ctx.out << Bold(ctx, std::string(StructureName(m.structure))) << how << ": " << m.tf.ToString()
-            << "\n";
+    ctx.out << Bold(ctx, std::string(StructureName(m.structure))) << how << ": "
+            << FactoredModelText(m.structure, m.values) << "\n";
+    ctx.out << "  units: gain in " << (options.output_unit.empty() ? "output" : options.output_unit)
+            << " per " << (options.input_unit.empty() ? "input" : options.input_unit)
+            << ", times in s\n";
     TextTable table({"parameter", "value", "95 % interval", "unit"});
     for (const auto& p : m.parameters) {
       table.AddRow({p.name, FormatNumber(p.value), Interval(p), p.unit});
@@ -247,6 +466,10 @@ class FitCommand : public Command {
   std::string out_path_;
   std::string plot_path_;
   bool json_ = false;
+  std::string input_unit_, output_unit_;
+  bool closed_loop_ = false;
+  ControllerOption controller_;
+  std::string compare_path_, band_path_;
 };
 
 }  // namespace

@@ -1,0 +1,268 @@
+#!/usr/bin/env python3
+"""End-to-end tests of `fit --compare`, `fit --band` and `fit --closed-loop`:
+cli_refit_test.py BINARY SOURCE_DIR WORK_DIR CASE.
+
+Expected values come from outside loopwright: the two-sample z test
+z = (new - old) / sqrt(se_old^2 + se_new^2), significant when |z| > 1.96 (Montgomery & Runger,
+Applied Statistics and Probability for Engineers, ch. 10; from memory), the true plants written
+on the cards of recordings/README.md, and the first-order step response in closed form.
+"""
+import json
+import math
+import os
+import re
+import shutil
+import subprocess
+import sys
+
+BIN, SOURCE, WORK, CASE = sys.argv[1:5]
+REC = os.path.join(SOURCE, "recordings")
+failures = []
+
+
+def run(*args):
+    p = subprocess.run([BIN, *args], capture_output=True, text=True, cwd=WORK, timeout=300)
+    return p.returncode, p.stdout, p.stderr
+
+
+def check(cond, what):
+    if not cond:
+        failures.append(what)
+        print("FAIL:", what)
+
+
+def path(name):
+    return os.path.join(WORK, name)
+
+
+def fit_json(*args):
+    code, out, err = run("fit", *args, "--json")
+    check(code == 0, f"fit {' '.join(args)} exits 0 (got {code}: {err.strip()})")
+    return json.loads(out) if code == 0 else None
+
+
+def old_model_and_band():
+    """The heater zone before the rework: its model file and a saved band."""
+    code, _, err = run("fit", os.path.join(REC, "heater_zone_step.csv"), "-o", path("old.json"))
+    check(code == 0, f"fit of the first recording exits 0 ({err.strip()})")
+    code, _, err = run("band", path("old.json"), "--controller", "pi:0.004", "--overshoot-max",
+                       "10", "--settle-max", "1000", "-o", path("old_band.json"))
+    check(code == 0, f"band on the old model exits 0 ({err.strip()})")
+
+
+def se_of(entry, cov_index, old_doc):
+    cov = old_doc.get("covariance")
+    if cov:
+        return math.sqrt(cov[cov_index][cov_index])
+    lo, hi = entry["ci95"]
+    return (hi - lo) / (2 * 1.96)
+
+
+def case_compare():
+    old_model_and_band()
+    old = json.load(open(path("old.json")))
+    doc = fit_json(os.path.join(REC, "heater_zone_after_rework.csv"), "--compare",
+                   path("old.json"), "--structure", "sopdt")
+    if doc is None:
+        return
+    cmp = doc["compare"]
+    check(cmp["old_model"] == path("old.json"), "compare.old_model names the file")
+    check(cmp["band"] is None, "compare.band is null without --band")
+    names = [p["name"] for p in cmp["parameters"]]
+    check(names == ["gain", "time_constant_1", "time_constant_2", "dead_time"],
+          f"every sopdt parameter compared (got {names})")
+    new_by_name = {p["name"]: p for p in doc["parameters"]}
+    for i, p in enumerate(cmp["parameters"]):
+        o = old["parameters"][[q["name"] for q in old["parameters"]].index(p["name"])]
+        oi = [q["name"] for q in old["parameters"]].index(p["name"])
+        n = new_by_name[p["name"]]
+        check(p["old"]["value"] == o["value"], f"{p['name']}: old value from the old file")
+        check(p["new"]["value"] == n["value"], f"{p['name']}: new value from the new fit")
+        check(abs(p["change"] - (n["value"] - o["value"])) <= 1e-12 * max(1, abs(o["value"])),
+              f"{p['name']}: change = new - old")
+        se_old = se_of(o, oi, old)
+        lo, hi = n["ci95"]
+        se_new = p["new"]["se"]
+        check(abs(se_new - (hi - lo) / 2 / 1.96) < 0.01 * se_new,
+              f"{p['name']}: new se matches its 95 % interval")
+        z = (n["value"] - o["value"]) / math.hypot(se_old, se_new)
+        check(abs(p["z"] - z) < 1e-6 * max(1, abs(z)), f"{p['name']}: z {p['z']} = {z} (formula)")
+        check(p["significant"] == (abs(z) > 1.96), f"{p['name']}: significant iff |z| > 1.96")
+    by = {p["name"]: p for p in cmp["parameters"]}
+    # The card: main time constant 240 -> 312 s (+30 %), gain 2.6 -> 2.4, dead time 38 -> 41 s.
+    check(by["time_constant_1"]["significant"] is True, "the +30 % main time constant is significant")
+    check(by["time_constant_1"]["change"] > 40, "the main time constant grew by tens of seconds")
+    check(by["gain"]["change"] < 0, "the gain went down")
+    # Human output: one row per parameter, verdict words, the rule.
+    code, out, err = run("fit", os.path.join(REC, "heater_zone_after_rework.csv"), "--compare",
+                         path("old.json"), "--structure", "sopdt")
+    check(code == 0, "human compare exits 0")
+    check("|z| > 1.96" in out, "human output states the rule")
+    row = [l for l in out.splitlines() if l.strip().startswith("time_constant_1")]
+    check(row and "changed" in row[-1], f"time_constant_1 row says changed ({row})")
+    check("\x1b[" not in out, "no colour when stdout is not a terminal")
+
+
+def case_compare_same():
+    # A model against itself: every change 0, nothing significant.
+    code, _, err = run("fit", os.path.join(REC, "heater_zone_step.csv"), "-o", path("m.json"))
+    check(code == 0, f"fit exits 0 ({err.strip()})")
+    doc = fit_json(os.path.join(REC, "heater_zone_step.csv"), "--compare", path("m.json"))
+    if doc is None:
+        return
+    for p in doc["compare"]["parameters"]:
+        check(p["change"] == 0 and p["z"] == 0 and p["significant"] is False,
+              f"{p['name']}: refit of the same recording changes nothing ({p})")
+
+
+def case_band():
+    old_model_and_band()
+    band = json.load(open(path("old_band.json")))
+    doc = fit_json(os.path.join(REC, "heater_zone_after_rework.csv"), "--compare",
+                   path("old.json"), "--band", path("old_band.json"))
+    if doc is None:
+        return
+    b = doc["compare"]["band"]
+    check(b is not None, "compare.band present with --band")
+    if b is None:
+        return
+    check(b["controller"] == "pi:0.004", "the band file's controller is used")
+    check(b["specs"] == band["specs"], "the band file's specs are used")
+    check(b["old"]["recommended_gain"] == band["recommended_gain"], "old recommended gain echoed")
+    check(b["gain_in_use"] == band["recommended_gain"] and "recommended" in b["gain_source"],
+          "without --gain the gain in use is the old recommended gain")
+    for key in ["locus", "response", "robust"]:
+        check(key in b["new"], f"new bands have {key}")
+    k = b["gain_in_use"]
+
+    def inside(ranges):
+        return any(lo <= k <= (math.inf if hi is None else hi) for lo, hi in ranges)
+
+    check(b["inside"]["locus"] == inside(b["new"]["locus"]), "inside.locus agrees with the ranges")
+    check(b["inside"]["response"] == inside(b["new"]["response"]),
+          "inside.response agrees with the ranges")
+    g = b["new"]["recommended_gain"]
+    check(isinstance(g, float) and g > 0, f"a new recommended gain ({g})")
+    check(isinstance(b["still_inside"], bool) and b["judged_on"], "still_inside and judged_on")
+    # --gain names the gain in use; a gain far above every band is not inside.
+    doc = fit_json(os.path.join(REC, "heater_zone_after_rework.csv"), "--band",
+                   path("old_band.json"), "--gain", "1000")
+    if doc:
+        b2 = doc["compare"]["band"]
+        check(b2["gain_in_use"] == 1000 and b2["gain_source"] == "--gain", "--gain is the gain in use")
+        check(b2["still_inside"] is False, "K = 1000 is not inside the new bands")
+    code, out, err = run("fit", os.path.join(REC, "heater_zone_after_rework.csv"), "--band",
+                         path("old_band.json"), "--gain", "1000")
+    check(code == 0 and "no longer inside" in out, "human output says 'no longer inside'")
+    check("new recommended gain K =" in out, "human output gives the new recommended gain")
+
+
+def case_closed_loop():
+    # The bundled closed-loop recording (card: 2.6 exp(-38 s)/((240 s + 1)(45 s + 1)) under
+    # pi:0.005 at K = 1.2).
+    doc = fit_json(os.path.join(REC, "heater_zone_closed_loop.csv"), "--closed-loop",
+                   "--controller", "pi:0.005", "--gain", "1.2", "--structure", "sopdt")
+    if doc is None:
+        return
+    truth = {"gain": 2.6, "time_constant_1": 240, "time_constant_2": 45, "dead_time": 38}
+    for p in doc["parameters"]:
+        rel = abs(p["value"] - truth[p["name"]]) / truth[p["name"]]
+        check(rel < 0.15, f"{p['name']} {p['value']:.4g} within 15 % of the card's {truth[p['name']]}")
+    check(doc["closed_loop"]["controller"] == "pi:0.005", "closed_loop.controller")
+    check(doc["units"]["time"] == "s", "units.time")
+    # No --gain: exit 2, one sentence.
+    code, out, err = run("fit", os.path.join(REC, "heater_zone_closed_loop.csv"), "--closed-loop")
+    check(code == 2 and "--gain" in err, f"--closed-loop without --gain exits 2 ({code}, {err!r})")
+    # An open-loop recording has no r column: exit 3 naming the column.
+    code, out, err = run("fit", os.path.join(REC, "heater_zone_step.csv"), "--closed-loop",
+                         "--gain", "1")
+    check(code == 3 and "'r'" in err, f"no reference column exits 3 ({code}, {err!r})")
+
+
+def case_units_and_text():
+    # Column-name units and the factored model line; closed form first-order data:
+    # y = 20 + 1.5 * 4 (1 - exp(-(t - 2 - 0.8)/3)) for t >= 2.8 (step of 4 at t = 2).
+    with open(path("units.csv"), "w") as f:
+        f.write("time,power[%],temp_degC\n")
+        for i in range(301):
+            t = 0.1 * i
+            y = 20 + (6 * (1 - math.exp(-(t - 2.8) / 3)) if t >= 2.8 else 0)
+            y += 0.01 * math.sin(37.0 * i)  # a small deterministic ripple
+            f.write(f"{t:.1f},{4 if t >= 2 else 0},{y!r}\n")
+    code, out, err = run("fit", path("units.csv"), "--time", "time", "--input", "power[%]",
+                         "--output", "temp_degC", "--structure", "fopdt")
+    check(code == 0, f"fit with named columns exits 0 ({err.strip()})")
+    first = out.splitlines()[0] if out else ""
+    m = re.fullmatch(r"fopdt: ([0-9.]+) exp\(-([0-9.]+) s\) / \(([0-9.]+) s \+ 1\)", first)
+    check(m is not None, f"factored model line (got {first!r})")
+    if m:
+        check(abs(float(m.group(1)) - 1.5) < 0.02 and abs(float(m.group(3)) - 3) < 0.05,
+              f"line shows K ~ 1.5 and tau ~ 3 ({first})")
+    check("degC/%" in out, "gain unit degC/% from the column names")
+    doc = fit_json(path("units.csv"), "--time", "time", "--input", "2", "--output", "3",
+                   "--structure", "fopdt", "--output-unit", "K")
+    if doc:
+        units = {p["name"]: p["unit"] for p in doc["parameters"]}
+        check(units["gain"] == "K/%", f"--output-unit wins, input unit from the header ({units})")
+        check(units["time_constant"] == "s" and units["dead_time"] == "s", "times in s")
+
+
+def case_errors():
+    old_model_and_band()
+    with open(path("bad.json"), "w") as f:
+        f.write("{ not json")
+    with open(path("not_band.json"), "w") as f:
+        json.dump({"format": "something-else"}, f)
+    rework = os.path.join(REC, "heater_zone_after_rework.csv")
+    out_file = path("never.json")
+    cases = [
+        ("missing old model", ["fit", rework, "--compare", path("nothing.json"), "-o", out_file], 3,
+         r"nothing\.json"),
+        ("old model not JSON", ["fit", rework, "--compare", path("bad.json"), "-o", out_file], 3,
+         r"bad\.json: not valid JSON"),
+        ("band file of another kind", ["fit", rework, "--band", path("not_band.json"), "-o",
+                                       out_file], 3, r"not a loopwright band file"),
+        ("a model given as band", ["fit", rework, "--band", path("old.json"), "-o", out_file], 3,
+         r"not a loopwright band file"),
+        ("bad plot extension", ["fit", rework, "-o", out_file, "--plot", path("fig.bmp")], 2,
+         r"fig\.bmp"),
+        ("missing output folder", ["fit", rework, "-o", path("no/such/dir/m.json")], 2,
+         r"does not exist"),
+        ("-o equals --plot", ["fit", rework, "-o", path("same.svg"), "--plot", path("same.svg")], 2,
+         r"different files"),
+        ("controller without closed loop", ["fit", rework, "--controller", "pi:0.1", "-o",
+                                            out_file], 2, r"--closed-loop"),
+        ("gain without closed loop or band", ["fit", rework, "--gain", "2", "-o", out_file], 2,
+         r"--gain"),
+        ("negative loop gain", ["fit", rework, "--closed-loop", "--gain", "-1", "-o", out_file], 2,
+         r"--gain"),
+    ]
+    for what, args, want, pattern in cases:
+        code, out, err = run(*args)
+        check(code == want, f"{what}: exit {want} (got {code}, {err.strip()!r})")
+        lines = [l for l in err.splitlines() if l.strip()]
+        check(len(lines) == 1 and re.search(pattern, lines[0]) is not None,
+              f"{what}: one sentence matching {pattern!r} (got {err!r})")
+        check(not os.path.exists(out_file) and not os.path.exists(path("same.svg")),
+              f"{what}: no output file left")
+        leftovers = [f for f in os.listdir(WORK) if ".tmp" in f or f.startswith(".")]
+        check(not leftovers, f"{what}: no temporary files left ({leftovers})")
+
+
+CASES = {
+    "compare": case_compare,
+    "compare_same": case_compare_same,
+    "band": case_band,
+    "closed_loop": case_closed_loop,
+    "units_and_text": case_units_and_text,
+    "errors": case_errors,
+}
+
+if __name__ == "__main__":
+    shutil.rmtree(WORK, ignore_errors=True)
+    os.makedirs(WORK)
+    CASES[CASE]()
+    if failures:
+        print(f"{len(failures)} check(s) failed in case {CASE}")
+        sys.exit(1)
+    print(f"case {CASE}: all checks passed")
