@@ -155,7 +155,7 @@ struct Shape {
 };
 
 template <Structure S, typename T>
-inline void Apply(const PieceMap<T>& m, T& x1, T& x2, double v) {
+[[gnu::always_inline]] inline void Apply(const PieceMap<T>& m, T& x1, T& x2, double v) {
   using Sh = Shape<S>;
   if constexpr (!Sh::kX2) {
     x1 = m.m00 * x1 + m.g0 * v;
