@@ -135,6 +135,7 @@ class CheckCommand : public Command {
     std::vector<TransferFunction> draws = Draws(ctx, model);
     ClosedLoopCheck c = CheckClosedLoop(model.tf, draws, controller, gain,
                                         CheckRecord{rec.t, rec.r, rec.u, rec.y}, o);
+    for (const std::string& note : c.notes) Warn(ctx, note);
     json doc = Document(c, model, controller, gain);
     if (!plot_path_.empty()) Plot(c, rec, o);
     if (!save_path_.empty()) WriteFileAtomically(save_path_, doc.dump(2) + "\n");
@@ -188,6 +189,7 @@ class CheckCommand : public Command {
             {"noise", {{"output_sd", c.sd_output}, {"actuator_sd", c.sd_actuator}}},
             {"draws", c.draws},
             {"noise_replicates", c.noise_replicates},
+            {"notes", c.notes},
             {"verdict", verdict},
             {"reason", c.reason},
             {"pass", c.verdict == CheckVerdict::kConfirmed},
