@@ -20,7 +20,7 @@ struct Piece {
 
 // Bisection in log K between a gain with verdict `va` and one with the opposite verdict.
 double LocateSwitch(const std::function<PoleVerdict(double)>& judge, double a, double b, bool va) {
-  for (int it = 0; it < 200 && b / a - 1.0 > 1e-12; ++it) {
+  for (int it = 0; it < 200 && b / a - 1.0 > 1e-10; ++it) {
     double m = std::sqrt(a * b);
     if (judge(m).meets == va)
       a = m;
@@ -94,6 +94,9 @@ LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
     std::vector<Piece> local;
     local.push_back({lo, hi, prev.meets, bounds[i], bounds[i + 1]});
     double step = std::min(0.05, x_stop - x), slope = 0.0;
+    // Early exit: when the verdict does not depend on which pole dominates (pole_verdict.h),
+    // it holds over the whole interval.
+    if (prev.uniform) x = x_stop;
     for (int it = 0; it < 4000 && x < x_stop; ++it) {
       double x1 = std::min(x + step, x_stop);
       PoleVerdict cur = judge(std::exp(x1));
@@ -104,15 +107,23 @@ LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
         local.back().hi_edge = e;
         local.push_back({sw, hi, cur.meets, e, bounds[i + 1]});
       }
+      const bool opening = std::isfinite(cur.gap) && std::isfinite(prev.gap) &&
+                           cur.gap > prev.gap && cur.meets == prev.meets;
       if (std::isfinite(cur.gap) && std::isfinite(prev.gap)) {
         slope = std::abs(cur.gap - prev.gap) / (x1 - x);
       } else {
         slope = 0.0;
       }
       double scale = std::max(1e-12, std::abs(cur.dominant.real()));
-      step = 0.7;
-      if (std::isfinite(cur.gap) && slope > 0.0) {
-        step = std::clamp(cur.gap / (3.0 * slope), 1e-5, 0.7);
+      if (opening) {
+        // The gap grows: its secant predicts no closing, so the step may double (a later
+        // closing is again seen by the secant rule below before the cap of 0.7).
+        step = std::min(0.7, std::max(2.0 * step, cur.gap / (3.0 * slope)));
+      } else {
+        step = 0.7;
+        if (std::isfinite(cur.gap) && slope > 0.0) {
+          step = std::clamp(cur.gap / (3.0 * slope), 1e-5, 0.7);
+        }
       }
       if (std::isfinite(cur.gap) && cur.gap < 1e-9 * scale) step = 1e-5;
       x = x1;

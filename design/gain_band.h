@@ -11,8 +11,11 @@
 //     step is a third of what the secant of the gap (pole_verdict.h: the dominant pole's real
 //     part minus the next pole's) predicts it needs to close, at most a factor 2 in K and at
 //     least 1e-5 in log K, so two poles cannot trade the dominant role and trade it back between
-//     two judged gains unless the gap closes faster than its secant says. Where the verdict
-//     changes, bisection in log K to 1e-12 relative makes a "dominance switch" edge.
+//     two judged gains unless the gap closes faster than its secant says; while the gap grows
+//     the step doubles instead (up to the same cap). Where the verdict changes, bisection in
+//     log K to 1e-10 relative makes a "dominance switch" edge. An interval whose verdict does
+//     not depend on which pole dominates (PoleVerdict::uniform: a pole is unstable, or all
+//     poles sit on the same side of the region) is judged once, not marched.
 //  3. consecutive meeting intervals are merged into the band: a union of ranges [lo, hi], each
 //     edge with its gain, the boundary that made it, the pole on that boundary and the dominant
 //     pole there.

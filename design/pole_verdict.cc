@@ -58,7 +58,18 @@ PoleVerdict JudgePoles(const std::vector<std::complex<double>>& poles, const Reg
   }
   if (s.real() >= 0.0) {
     v.failure = Failure::kUnstable;
+    v.uniform = true;
     return v;
+  }
+  {
+    size_t inside = 0, decaying = 0;
+    for (const auto& q : poles) {
+      PoleShape e = ShapeOf(q);
+      inside += e.wn >= region.wn_min && e.sigma >= region.zeta_min * e.wn &&
+                e.sigma >= region.sigma_min && e.wd >= region.wd_min;
+      decaying += -q.real() >= region.decay_min;
+    }
+    v.uniform = inside == 0 || (inside == poles.size() && decaying == poles.size());
   }
   const PoleShape& p = v.shape;
   if (p.wn < region.wn_min)

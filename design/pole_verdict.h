@@ -27,6 +27,11 @@ struct PoleVerdict {
   // Re(dominant) - Re(the next pole that is not the dominant one or its conjugate), >= 0: how
   // far the dominant role is from changing hands; +inf with a single real pole or pair.
   double gap = 0.0;
+  // True when the verdict does not depend on which pole is dominant: some pole is unstable, or
+  // no pole would pass the dominant-pole bounds, or every pole would (and every pole meets
+  // decay_min). Between two boundary crossings each pole keeps its side of every boundary, so
+  // then the verdict holds until the next crossing and no dominance switch can change it.
+  bool uniform = false;
 };
 
 PoleVerdict JudgePoles(const std::vector<std::complex<double>>& poles, const Region& region);

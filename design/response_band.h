@@ -19,7 +19,8 @@
 // has a pole with Re >= 0 is judged unstable without simulating.
 //
 // Search: `grid` log-spaced gains from a tenth of the smallest to 1.05 times the largest gain at
-// which a pole of the Padé loop crosses a region boundary (boundary_crossings.h); neighbours with
+// which a pole of the Padé loop crosses a region boundary (boundary_crossings.h; simulated on two
+// threads); neighbours with
 // different verdicts bracket an edge, refined by bisection in log K until hi/lo - 1 <= rel_tol.
 // When an end of the grid meets the specs the search extends by decades (up to 6) to find that
 // edge or reports it open (0 or inf). Two edges between neighbouring grid gains are missed.

@@ -1,76 +1,47 @@
 // `loopwright band (MODEL.json | --plant FORMULA) [--controller C] [specs...] [--pade N]
-//                  [--sample-time T] [--draws N] [--seed N] [--json] [-o BAND.json]`
+//                  [--sample-time T] [--draws N] [--seed N] [--json] [--save BAND.json]
+//                  [--plot FIGURE.svg]`
 //
 // Every controller gain that meets the response specs: the exact locus band (dominant-pole
 // region, design/gain_band.h), the simulated response band (exact dead time,
 // design/response_band.h), the robust band over parameter draws when the model file carries a
 // covariance (design/robust_band.h), optionally the band of the sampled loop, and the
 // recommended gain (design/recommendation.h). Exit 1 with one sentence when no gain meets the
-// specs.
+// specs. Robust draws come from identify/parameter_draws.h (app/model_draws.h). --save (alias -o,
+// --out) writes the JSON document the report reads; --plot draws the locus and metrics figures
+// (app/band_plot.h); a bad figure extension is refused before anything is computed.
 #include <cmath>
 #include <cstdio>
 #include <memory>
 #include <optional>
-#include <random>
 #include <sstream>
 #include <string>
 #include <vector>
 
-#include <Eigen/Cholesky>
-#include <Eigen/Eigenvalues>
 #include <nlohmann/json.hpp>
 
+#include "app/band_plot.h"
 #include "app/command.h"
 #include "app/controller_option.h"
+#include "app/figure_path.h"
+#include "app/model_draws.h"
 #include "app/model_source.h"
 #include "app/output.h"
+#include "app/saved_document.h"
 #include "app/spec_options.h"
+#include "app/summary_table.h"
 #include "design/discrete_band.h"
 #include "design/gain_band.h"
 #include "design/infeasibility.h"
 #include "design/recommendation.h"
 #include "design/response_band.h"
 #include "design/robust_band.h"
-#include "identify/model_structure.h"
-#include "io/atomic_file.h"
 #include "lti/error.h"
 
 namespace lw::app {
 namespace {
 
 using nlohmann::json;
-
-// Plants drawn from the model's parameter covariance: p = p0 + L z, z ~ N(0, I) seeded, L a
-// square root of the covariance (eigen-decomposition, negative eigenvalues from rounding set to
-// zero); draws outside the structure's physical rules are redrawn (up to 20 times as many tries).
-std::vector<TransferFunction> DrawPlants(const ModelDocument& doc, int n, unsigned seed,
-                                         std::string& note) {
-  Structure s = ParseStructure(doc.structure);
-  const Eigen::Index m = static_cast<Eigen::Index>(doc.parameters.size());
-  Eigen::VectorXd p0(m);
-  for (Eigen::Index i = 0; i < m; ++i) p0(i) = doc.parameters[static_cast<size_t>(i)].value;
-  Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> es(doc.covariance);
-  Eigen::VectorXd ev = es.eigenvalues().cwiseMax(0.0).cwiseSqrt();
-  Eigen::MatrixXd root = es.eigenvectors() * ev.asDiagonal();
-  std::mt19937_64 rng(seed);
-  std::normal_distribution<double> normal(0.0, 1.0);
-  std::vector<TransferFunction> out;
-  int tries = 0;
-  while (static_cast<int>(out.size()) < n && tries < 20 * n) {
-    ++tries;
-    Eigen::VectorXd z(m);
-    for (Eigen::Index i = 0; i < m; ++i) z(i) = normal(rng);
-    Eigen::VectorXd p = p0 + root * z;
-    std::vector<double> v(p.data(), p.data() + m);
-    if (!IsPhysical(s, v)) continue;
-    out.push_back(StructureTransferFunction(s, v));
-  }
-  if (tries > n) {
-    note = std::to_string(tries - n) + " of " + std::to_string(tries) +
-           " draws broke the structure's physical rules and were drawn again";
-  }
-  return out;
-}
 
 json RangesJson(const GainSet& set) {
   json a = json::array();
@@ -197,10 +168,18 @@ class BandCommand : public Command {
         ->capture_default_str();
     sub.add_option("--seed", seed_, "Seed of the parameter draws")->capture_default_str();
     sub.add_flag("--json", json_, "Print one JSON document instead of text");
-    sub.add_option("-o,--out", out_path_, "Also write the bands and specs to this JSON file");
+    sub.add_option("--save,-o,--out", out_path_,
+                   "Also write the bands and specs to this JSON file (the report reads it)");
+    sub.add_option("--plot", plot_path_,
+                   "Draw the locus figure to FILE (.svg, .png, .pdf) and the gain sweep of the "
+                   "step metrics beside it, to FILE with -metrics before the extension");
   }
 
   int Run(Context& ctx) override {
+    if (!plot_path_.empty()) CheckFigurePath("--plot", plot_path_);
+    if (!out_path_.empty() && out_path_ == plot_path_) {
+      throw UsageError("--save and --plot name the same file '" + out_path_ + "'");
+    }
     LoadedModel model = source_.Load();
     Controller controller = controller_.Parse();
     Specs specs = specs_.Get();
@@ -224,21 +203,15 @@ class BandCommand : public Command {
     std::optional<GainSet> robust;
     std::string robust_note;
     int draws_used = 0;
-    if (model.model && model.model->covariance.size() > 0) {
-      try {
-        std::vector<TransferFunction> draws = DrawPlants(*model.model, draws_, seed_, robust_note);
-        RobustBandOptions rbo;
-        rbo.pade_order = pade;
-        rbo.min_draws = 500;
-        RobustBand rb = FindRobustBand(draws, controller, region, rbo);
-        robust = rb.gains;
-        draws_used = rb.draws;
-      } catch (const UsageError& e) {
-        robust_note = std::string("no robust band: ") + e.what();
-      }
-    } else {
-      robust_note = model.model ? "the model file has no covariance, so there is no robust band"
-                                : "a plant formula has no covariance, so there is no robust band";
+    ModelDraws draws = DrawModelPlants(model, static_cast<size_t>(draws_), seed_);
+    robust_note = draws.note;
+    if (!draws.plants.empty()) {
+      RobustBandOptions rbo;
+      rbo.pade_order = pade;
+      rbo.min_draws = 500;
+      RobustBand rb = FindRobustBand(draws.plants, controller, region, rbo);
+      robust = rb.gains;
+      draws_used = rb.draws;
     }
 
     std::optional<DiscreteBand> discrete;
@@ -279,14 +252,24 @@ class BandCommand : public Command {
     std::vector<std::string> differences =
         Differences(plant, controller, specs, loop, locus, response);
     doc["differences"] = differences;
-    if (!out_path_.empty()) {
-      json file = doc;
-      file["format"] = "loopwright-band";
-      file["version"] = 1;
-      file["model"] = model.description;
-      file["command_line"] = ctx.command_line;
-      WriteFileAtomically(out_path_, file.dump(2) + "\n");
+    std::vector<std::string> figures;
+    if (!plot_path_.empty()) {
+      BandPlotInput in{plant,
+                       controller,
+                       specs,
+                       region,
+                       loop,
+                       locus,
+                       response,
+                       robust,
+                       rec,
+                       ro,
+                       "Gain band of " + controller.ToString() + " around " + plant.ToString()};
+      figures = WriteBandFigures(plot_path_, in);
+      doc["figures"] = {{"locus", figures[0]}, {"metrics", figures[1]}};
     }
+    if (!out_path_.empty())
+      SaveDocument(out_path_, doc, "loopwright-band", model.description, ctx.command_line);
     if (json_) {
       PrintJson(ctx, doc);
       return 0;
@@ -341,9 +324,28 @@ class BandCommand : public Command {
           << DiagnoseInfeasible(loop, region).sentence << "\n";
     }
     for (const std::string& d : differences) out << "  note: " << d << "\n";
+    out << "\n";
+    SummaryTable table({"band", "gains K", "verdict"});
+    table.AddRow({"locus", ToString(locus.gains()), Verdict(!locus.empty(), "found", "none")});
+    table.AddRow(
+        {"response", ToString(response.gains()), Verdict(!response.empty(), "found", "none")});
+    if (robust) {
+      table.AddRow({"robust", ToString(*robust), Verdict(!robust->empty(), "found", "none")});
+    } else {
+      table.AddRow({"robust", "n/a", SummaryCell("no draws", CellMark::kCaution)});
+    }
+    if (discrete) {
+      table.AddRow({"sampled", ToString(discrete->band.gains()),
+                    Verdict(!discrete->band.empty(), "found", "none")});
+    }
+    table.AddRow({"recommended", "K = " + FormatNumber(rec.gain, 4),
+                  SummaryCell(rec.source, CellMark::kOk)});
+    table.Print(ctx);
     out << "\n"
         << Good(ctx, "recommended gain K = " + FormatNumber(rec.gain, 4)) << ": " << rec.reason
         << "\n";
+    for (const std::string& f : figures) out << "figure: " << f << "\n";
+    if (!out_path_.empty()) out << "band file: " << out_path_ << "\n";
     return 0;
   }
 
@@ -356,6 +358,7 @@ class BandCommand : public Command {
   unsigned seed_ = 1;
   bool json_ = false;
   std::string out_path_;
+  std::string plot_path_;
 };
 
 }  // namespace

@@ -57,7 +57,7 @@ int main() {
     lw::TransferFunction plant = Plant(n, 1.0);
     lw::LoopPolynomials loop = lw::LoopPolynomials::ForGain(plant, c, 3);
     lw::LocusBand band;
-    double locus = MedianMs(51, [&] { band = lw::FindLocusBand(loop, region); });
+    double locus = MedianMs(21, [&] { band = lw::FindLocusBand(loop, region); });
     lw::ResponseBand rb;
     double response = MedianMs(3, [&] { rb = lw::FindResponseBand(plant, c, specs); });
     std::mt19937_64 rng(5);
