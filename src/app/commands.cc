@@ -12,6 +12,11 @@ std::unique_ptr<Command> MakePredictCommand();
 std::unique_ptr<Command> MakeCheckCommand();
 std::unique_ptr<Command> MakeReportCommand();
 std::unique_ptr<Command> MakeEmulateCommand();
+std::unique_ptr<Command> MakeRecordCommand();
+std::unique_ptr<Command> MakeStepTestCommand();
+std::unique_ptr<Command> MakeApplyCommand();
+std::unique_ptr<Command> MakeVerifyCommand();
+std::unique_ptr<Command> MakeTuneCommand();
 std::unique_ptr<Command> MakeInitCommand();
 std::unique_ptr<Command> MakeLogCommand();
 std::unique_ptr<Command> MakeDriftCommand();
@@ -32,6 +37,16 @@ const std::vector<CommandEntry>& CommandTable() {
        MakeReportCommand},
       {"emulate", "Run a simulated rig speaking the rig protocol on a pseudo-terminal or TCP port",
        MakeEmulateCommand},
+      {"record", "Record a rig's samples passively into a CSV (every valid sample, as it arrives)",
+       MakeRecordCommand},
+      {"step-test", "Run an open-loop step test on a rig and record it (hold, step, settle, return)",
+       MakeStepTestCommand},
+      {"apply", "Close a rig's loop at one gain and hold it, with the safety limits enforced",
+       MakeApplyCommand},
+      {"verify", "Run a closed-loop reference step on a rig, then check the model against it",
+       MakeVerifyCommand},
+      {"tune", "The whole job on a rig: step test, fit, band, proposed gain, verify, report",
+       MakeTuneCommand},
       {"init", "Create a rig workspace: a rig profile (TOML) and an empty logbook (SQLite)",
        MakeInitCommand},
       {"log", "List the workspace's logbook: every result with its time, outcome, recordings",

@@ -1,0 +1,262 @@
+// `loopwright tune [--port P] [--controller C] [--from U0 --to U1] [--ref-step A:B] [--gain K]
+//                  [--rise-max S] [--overshoot-max PCT] [--zeta-min Z] [--settle-max S]
+//                  [--settle auto|S] [--max-wait S] [--dir OUT] [--yes] [--dry-run]
+//                  [rig options]`            (the workspace: the global --rig DIR)
+//
+// The whole job on one rig session, every file in OUT and every result in the rig logbook:
+//   1. step test U0 -> U1 (default: U0 the rig's safe value, U1 = U0 + 10 % of the actuator
+//      range, downwards when upwards does not fit, no more than --max-step) -> step.csv
+//   2. `fit step.csv` -> model.json, fit.svg
+//   3. `band model.json` with the specs (options, else the profile's [specs], else an overshoot
+//      of at most 10 %, common practice) -> band.json; the proposed gain is its recommendation
+//      (or --gain K), refused above the maximum gain
+//   4. the proposal is shown and confirmed (on a terminal, else --yes)
+//   5. `predict` at that gain -> prediction.json
+//   6. apply and verify: loop C K A, rest, reference A -> B, rest -> closed_loop.csv (default A
+//      the output's level at U0, B = A + half the output change of the step test); safe stop
+//   7. `check` -> check.json, the verdict;  8. `report` -> report.html
+// The rig session (heartbeat, trips, signals) stays open from 1 to 6. Exit status: check's
+// (0 confirmed, 1 stale or saturated), or the first failure's.
+#include <chrono>
+#include <cmath>
+#include <ctime>
+#include <filesystem>
+#include <fstream>
+#include <memory>
+#include <optional>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "app/command.h"
+#include "app/controller_option.h"
+#include "app/output.h"
+#include "app/rig_connect.h"
+#include "app/rig_options.h"
+#include "app/rig_phases.h"
+#include "app/run_command.h"
+#include "app/stop_signal.h"
+#include "io/atomic_file.h"
+#include "lti/error.h"
+#include "lti/number_text.h"
+
+namespace lw::app {
+
+std::pair<double, double> ParseRefStep(const std::string& text);  // verify.cc
+std::string ActuatorRangeText(const RigLimits& l);                // verify.cc
+
+namespace {
+
+std::string Stamp() {
+  std::time_t now = std::time(nullptr);
+  std::tm tm{};
+  gmtime_r(&now, &tm);
+  char buf[32];
+  std::strftime(buf, sizeof buf, "%Y%m%dT%H%M%SZ", &tm);
+  return buf;
+}
+
+void Banner(Context& ctx, int step, const std::string& what) {
+  ctx.out << "\n" << Bold(ctx, "tune " + std::to_string(step) + ": " + what) << "\n" << std::flush;
+}
+
+// Runs a command in-process with its output shown, after printing its command line.
+int Show(Context& ctx, const std::string& name, const std::vector<std::string>& args) {
+  ctx.out << "$ loopwright " << CommandText(name, args) << "\n" << std::flush;
+  int status = RunCommand(ctx, name, args);
+  ctx.out << std::flush;
+  return status;
+}
+
+class TuneCommand : public Command {
+ public:
+  void Configure(CLI::App& sub) override {
+    rig_.Add(sub, /*drives=*/true);
+    controller_.Add(sub, /*gain_required=*/false);
+    sub.add_option("--from", from_, "Step test: actuator before the step (default: safe value)");
+    sub.add_option("--to", to_, "Step test: actuator after the step (default: see --help)");
+    sub.add_option("--ref-step", ref_step_,
+                   "Verification step A:B (default: from the step test's levels)");
+    sub.add_option("--rise-max", rise_max_, "Spec: largest 10-90 % rise time, s");
+    sub.add_option("--overshoot-max", overshoot_max_, "Spec: largest overshoot, percent");
+    sub.add_option("--zeta-min", zeta_min_, "Spec: smallest damping ratio");
+    sub.add_option("--settle-max", settle_max_, "Spec: largest settling time, s");
+    sub.add_option("--settle", settle_, "auto or seconds per phase")->capture_default_str();
+    sub.add_option("--max-wait", max_wait_, "Longest wait for rest per phase, rig seconds")
+        ->capture_default_str();
+    sub.add_option("--dir", dir_,
+                   "Folder for every file of the job (default: tune-<UTC time> in the workspace "
+                   "or the current folder)");
+  }
+
+  int Run(Context& ctx) override {
+    const Controller controller = controller_.Parse();
+    PhaseTiming timing;
+    timing.settle_s = ParseSettle(settle_);
+    timing.max_wait_s = max_wait_;
+    ResolvedRig rig = rig_.Resolve(ctx);
+    if (controller_.has_gain()) rig.limits.RequireGain(controller_.gain());
+    std::string dir = dir_;
+    if (dir.empty())
+      dir = (std::filesystem::path(rig.workspace.value_or(".")) / ("tune-" + Stamp())).string();
+    auto file = [&](const std::string& name) {
+      return (std::filesystem::path(dir) / name).string();
+    };
+    StopSignalGuard guard;
+    auto session = ConnectRig(ctx, rig, guard, /*drives=*/true);
+    const RigCaps caps = session->caps();
+    const RigLimits& limits = session->limits();
+    double u0 = from_ ? *from_ : caps.safe_value;
+    double u1 = to_ ? *to_ : DefaultTarget(u0, limits);
+    limits.RequireActuatorMove(u0, u1, RigLimits::kInf);
+    ConfirmDriving(ctx, rig,
+                   "tune drives '" + caps.name + "' on " + session->port() + ": a step test " +
+                       FormatNumber(u0, 6) + " -> " + FormatNumber(u1, 6) +
+                       ", then a closed-loop step at the gain it proposes");
+    if (!session->dry_run()) {
+      std::error_code ec;
+      std::filesystem::create_directories(dir, ec);
+      if (ec) throw UsageError("cannot create '" + dir + "': " + ec.message());
+    }
+    std::string tag = std::string("loopwright ") + LOOPWRIGHT_VERSION + " tune on " + caps.name +
+                      " (" + session->port() + "): " + ctx.command_line;
+
+    Banner(ctx, 1, "step test " + FormatNumber(u0, 6) + " -> " + FormatNumber(u1, 6));
+    StepOutcome step = RunOpenLoopStep(ctx, *session, u0, u1, timing, file("step.csv"), tag);
+    if (session->dry_run()) {
+      ctx.out << "dry run: the fit, band and closed-loop step need the step test's recording; "
+                 "stopping here\n";
+      return 0;
+    }
+    RecordingSummary(ctx, *session, step.path, step.samples);
+
+    Banner(ctx, 2, "fit a model to the step test");
+    Show(ctx, "fit", {file("step.csv"), "-o", file("model.json"), "--plot", file("fit.svg")});
+
+    Banner(ctx, 3, "the gain band for the specs");
+    std::vector<std::string> band_args = {file("model.json"), "--controller", controller.ToString(),
+                                          "-o", file("band.json")};
+    AddSpecs(band_args, rig.specs);
+    Show(ctx, "band", band_args);
+    double gain = controller_.has_gain() ? controller_.gain() : RecommendedGain(file("band.json"));
+    std::string why = limits.CheckGain(gain);
+    if (!why.empty()) throw JobFailed("the proposed " + why + "; nothing was applied");
+
+    double a = step.level_before;
+    double b = a + 0.5 * (step.level_after - step.level_before);
+    if (!ref_step_.empty()) std::tie(a, b) = ParseRefStep(ref_step_);
+    Banner(ctx, 4, "proposal");
+    ctx.out << "  apply " << controller.ToString() << " at K = " << FormatNumber(gain, 6)
+            << " and step the reference " << FormatNumber(a, 6) << " -> " << FormatNumber(b, 6)
+            << "\n";
+    ConfirmDriving(ctx, rig, "apply K = " + FormatNumber(gain, 6) + " on '" + caps.name + "'");
+
+    Banner(ctx, 5, "predict the closed loop at K = " + FormatNumber(gain, 6));
+    std::vector<std::string> predict_args = {
+        file("model.json"),
+        "--gain",
+        ShortestText(gain),
+        "--controller",
+        controller.ToString(),
+        "--reference",
+        "step:" + ShortestText(a) + ":" + ShortestText(b) + ":0"};
+    std::string actuator = ActuatorRangeText(limits);
+    if (!actuator.empty()) predict_args.insert(predict_args.end(), {"--actuator", actuator});
+    Show(ctx, "predict", predict_args);
+    SavePrediction(ctx, predict_args, file("prediction.json"));
+
+    Banner(
+        ctx, 6,
+        "apply and verify: closed-loop step " + FormatNumber(a, 6) + " -> " + FormatNumber(b, 6));
+    StepOutcome verify = RunClosedLoopStep(ctx, *session, controller.ToString(), gain, a, b, timing,
+                                           file("closed_loop.csv"), tag);
+    session->SafeStop("tune: closed-loop step recorded");
+    RecordingSummary(ctx, *session, verify.path, verify.samples);
+    session.reset();
+
+    Banner(ctx, 7, "check the model against the closed-loop step");
+    std::vector<std::string> check_args = {file("model.json"),
+                                           "--gain",
+                                           ShortestText(gain),
+                                           "--controller",
+                                           controller.ToString(),
+                                           file("closed_loop.csv"),
+                                           "--save",
+                                           file("check.json")};
+    if (!actuator.empty()) check_args.insert(check_args.end(), {"--actuator", actuator});
+    int verdict = Show(ctx, "check", check_args);
+
+    Banner(ctx, 8, "report");
+    Show(ctx, "report",
+         {file("model.json"), file("band.json"), file("prediction.json"), file("check.json"),
+          file("fit.svg"), "--title", "Tuning of " + caps.name, "-o", file("report.html")});
+    ctx.out << "\ntune done: files in " << dir << "\n";
+    nlohmann::json summary = {{"dir", dir},
+                              {"gain", gain},
+                              {"controller", controller.ToString()},
+                              {"step_test", step.path},
+                              {"closed_loop", verify.path},
+                              {"confirmed", verdict == 0}};
+    LogRigResult(ctx, "tune", verdict == 0 ? "ok" : "failed", summary, {step.path, verify.path});
+    return verdict;
+  }
+
+ private:
+  static double DefaultTarget(double u0, const RigLimits& l) {
+    if (!std::isfinite(l.actuator_lo) || !std::isfinite(l.actuator_hi)) {
+      throw UsageError("the actuator range is unbounded: give the step test's --from and --to");
+    }
+    double d = 0.1 * (l.actuator_hi - l.actuator_lo);
+    d = std::min(d, l.max_step);
+    return u0 + d <= l.actuator_hi ? u0 + d : u0 - d;
+  }
+
+  void AddSpecs(std::vector<std::string>& args, const RigSpecs& profile) const {
+    auto add = [&](const char* option, const std::optional<double>& mine,
+                   const std::optional<double>& theirs) {
+      const std::optional<double>& v = mine ? mine : theirs;
+      if (v) args.insert(args.end(), {option, ShortestText(*v)});
+      return v.has_value();
+    };
+    bool any = add("--rise-max", rise_max_, profile.rise_max);
+    any = add("--overshoot-max", overshoot_max_, profile.overshoot_max) || any;
+    any = add("--zeta-min", zeta_min_, profile.zeta_min) || any;
+    any = add("--settle-max", settle_max_, profile.settle_max) || any;
+    if (!any) args.insert(args.end(), {"--overshoot-max", "10"});
+  }
+
+  static double RecommendedGain(const std::string& band_path) {
+    std::ifstream in(band_path);
+    nlohmann::json doc = nlohmann::json::parse(in, nullptr, /*allow_exceptions=*/false);
+    if (doc.is_discarded() || !doc.contains("recommended_gain") ||
+        !doc["recommended_gain"].is_number()) {
+      throw JobFailed(band_path + " names no recommended gain; nothing was applied");
+    }
+    return doc["recommended_gain"].get<double>();
+  }
+
+  static void SavePrediction(Context& ctx, std::vector<std::string> args, const std::string& path) {
+    std::ostringstream json_out;
+    Context quiet{json_out, ctx.err, false, false, ctx.command_line, ctx.rig_dir};
+    args.push_back("--json");
+    RunCommand(quiet, "predict", args);
+    WriteFileAtomically(path, json_out.str());
+  }
+
+  RigOptions rig_;
+  ControllerOption controller_;
+  std::optional<double> from_, to_;
+  std::string ref_step_;
+  std::optional<double> rise_max_, overshoot_max_, zeta_min_, settle_max_;
+  std::string settle_ = "auto";
+  double max_wait_ = 3600.0;
+  std::string dir_;
+};
+
+}  // namespace
+
+std::unique_ptr<Command> MakeTuneCommand() { return std::make_unique<TuneCommand>(); }
+
+}  // namespace lw::app

@@ -1,0 +1,324 @@
+#!/usr/bin/env python3
+"""End-to-end tests of the hardware commands against `loopwright emulate`:
+cli_rig_test.py BINARY SOURCE_DIR WORK_DIR CASE.
+
+Each case starts the emulator (pseudo-terminal or loopback TCP), runs a host command against it
+and checks exit status, messages, the recording and the emulator's own counts and traffic log.
+Outside references: the CRC-16/CCITT-FALSE parameters and check value ("123456789" -> 0x29B1,
+the published catalogue of CRC parameters) for the dry-run lines; the plant the emulator runs
+for the tune case (its parameters are the truth the fit must recover within 5 %).
+"""
+import os
+import re
+import signal
+import subprocess
+import sys
+import time
+
+BIN, SOURCE, WORK, CASE = sys.argv[1:5]
+os.makedirs(WORK, exist_ok=True)
+failures = []
+
+
+def check(cond, what):
+    if not cond:
+        failures.append(what)
+        print("FAIL:", what)
+
+
+def crc16_ccitt_false(data: bytes) -> int:
+    crc = 0xFFFF
+    for b in data:
+        crc ^= b << 8
+        for _ in range(8):
+            crc = ((crc << 1) ^ 0x1021) if crc & 0x8000 else (crc << 1)
+            crc &= 0xFFFF
+    return crc
+
+
+assert crc16_ccitt_false(b"123456789") == 0x29B1
+
+
+class Emulator:
+    def __init__(self, *args, tcp=False):
+        transport = ["--listen", "tcp:127.0.0.1:0"] if tcp else ["--pty"]
+        self.err_path = os.path.join(WORK, "emulator.err")
+        self.err = open(self.err_path, "w")
+        self.p = subprocess.Popen([BIN, "emulate", *transport, *args], stdout=subprocess.PIPE,
+                                  stderr=self.err, text=True)
+        self.where = self.p.stdout.readline().strip()
+        if not self.where:
+            raise RuntimeError("the emulator printed no port")
+
+    def stop(self):
+        if self.p.poll() is None:
+            self.p.send_signal(signal.SIGTERM)
+        try:
+            self.p.wait(timeout=20)
+        except subprocess.TimeoutExpired:
+            self.p.kill()
+            self.p.wait()
+        self.err.close()
+        with open(self.err_path) as f:
+            return f.read()
+
+
+def run(*args, timeout=120):
+    p = subprocess.run([BIN, *args], capture_output=True, text=True, cwd=WORK, timeout=timeout)
+    return p.returncode, p.stdout, p.stderr
+
+
+def fresh(name):
+    path = os.path.join(WORK, name)
+    if os.path.exists(path):
+        os.remove(path)
+    return path
+
+
+def read_recording(path):
+    with open(path) as f:
+        text = f.read()
+    lines = text.splitlines()
+    comments = [l[1:].strip() for l in lines if l.startswith("#")]
+    data = [l for l in lines if l and not l.startswith("#")]
+    header = data[0].split(",")
+    rows = [[float(c) for c in l.split(",")] for l in data[1:]]
+    return text, comments, header, rows
+
+
+def emulator_counts(err_text):
+    m = re.search(r"samples (\d+) intact, (\d+) dropped, (\d+) corrupted", err_text)
+    return tuple(int(g) for g in m.groups()) if m else None
+
+
+def summary_value(out, key):
+    m = re.search(re.escape(key) + r":\s+(\d+)", out)
+    return int(m.group(1)) if m else None
+
+
+def zero_loss(tcp):
+    # 1 kHz for 60 s of rig time at 20x real time: every sample, in order, nothing lost.
+    emu = Emulator("--plant", "1/(0.05*s+1)", "--rate", "1000", "--speed", "20", tcp=tcp)
+    rec = fresh("stream.csv")
+    code, out, err = run("record", "--port", emu.where, "-o", rec, "--duration", "60")
+    emu_err = emu.stop()
+    check(code == 0, f"record exits 0 (got {code}: {err.strip()})")
+    _, comments, header, rows = read_recording(rec)
+    check(header == ["t", "r", "u", "y", "seq"], f"columns t,r,u,y,seq (got {header})")
+    check(len(rows) >= 60000, f"at least 60 000 samples for 60 s at 1 kHz (got {len(rows)})")
+    # Sequence numbers count every rig line (acknowledgements of heartbeats too), so samples
+    # may skip a number; consecutive rig times show that none is missing.
+    seqs = [int(r[4]) for r in rows]
+    check(all(b > a for a, b in zip(seqs, seqs[1:])), "sample sequence numbers increase")
+    dts = {round((b[0] - a[0]) * 1e6) for a, b in zip(rows, rows[1:])}
+    check(dts == {1000}, f"rig times 1000 us apart (got {sorted(dts)[:5]})")
+    check(not any(c.startswith("gap") or c.startswith("corrupted") for c in comments),
+          "no gap or corrupted notes")
+    check(summary_value(out, "lost lines") == 0 and summary_value(out, "corrupted lines") == 0,
+          f"summary says 0 lost, 0 corrupted ({out!r})")
+    counts = emulator_counts(emu_err)
+    check(counts is not None and counts[0] == len(rows),
+          f"every intact sample the emulator sent is in the file ({counts} vs {len(rows)})")
+
+
+def case_zero_loss_pty():
+    zero_loss(False)
+
+
+def case_zero_loss_tcp():
+    zero_loss(True)
+
+
+def case_faults():
+    # Injected drops and corruption: the host's counts equal the emulator's exactly.
+    emu = Emulator("--plant", "3/(0.2*s+1)", "--rate", "1000", "--speed", "10",
+                   "--faults", "drop=0.01,corrupt=0.02", "--seed", "11")
+    rec = fresh("faults.csv")
+    code, out, err = run("record", "--port", emu.where, "-o", rec, "--duration", "20")
+    emu_err = emu.stop()
+    check(code == 0, f"record exits 0 (got {code}: {err.strip()})")
+    intact, dropped, corrupted = emulator_counts(emu_err)
+    check(dropped > 50 and corrupted > 100, f"faults were injected ({dropped}, {corrupted})")
+    _, comments, _, rows = read_recording(rec)
+    check(len(rows) == intact, f"rows = intact samples sent ({len(rows)} vs {intact})")
+    check(summary_value(out, "lost lines") == dropped,
+          f"lost lines = dropped ({summary_value(out, 'lost lines')} vs {dropped})")
+    check(summary_value(out, "corrupted lines") == corrupted,
+          f"corrupted lines = corrupted ({summary_value(out, 'corrupted lines')} vs {corrupted})")
+    gap_total = 0
+    bad_total = 0
+    for c in comments:
+        m = re.match(r"gap: sequence \d+(?: to \d+)? missing \((\d+) lines?\)", c)
+        if m:
+            gap_total += int(m.group(1))
+        m = re.match(r"corrupted: (\d+) lines? failed", c)
+        if m:
+            bad_total += int(m.group(1))
+    check(bad_total == corrupted, f"corrupted notes add up ({bad_total} vs {corrupted})")
+    check(gap_total == dropped + corrupted,
+          f"gap notes cover every missing number ({gap_total} vs {dropped + corrupted})")
+    seqs = [int(r[4]) for r in rows]
+    check(len(set(seqs)) == len(seqs), "no sample used twice")
+
+
+def case_disconnect():
+    emu = Emulator("--plant", "1/(0.1*s+1)", "--rate", "100", "--speed", "4",
+                   "--faults", "disconnect-after=3")
+    rec = fresh("cut.csv")
+    code, out, err = run("record", "--port", emu.where, "-o", rec, "--duration", "20")
+    emu.stop()
+    check(code == 4, f"a dropped link exits 4 (got {code})")
+    check("link" in err or "closed" in err or "stopped answering" in err,
+          f"the message says the link went ({err.strip()})")
+    text, comments, _, rows = read_recording(rec)
+    check(text.endswith("\n"), "the recording ends with a whole line")
+    check(250 <= len(rows) <= 320, f"about 3 s at 100 Hz recorded ({len(rows)})")
+    check(any(c.startswith("link lost") for c in comments), "the loss is noted in the recording")
+
+
+def traffic(log_path):
+    lines = []
+    with open(log_path) as f:
+        for l in f:
+            parts = l.rstrip("\n").split(" ", 3)
+            if len(parts) == 4:
+                lines.append((int(parts[0]), int(parts[1]), parts[2], parts[3]))
+    return lines
+
+
+def case_trip():
+    # y = 2 u / (0.5 s + 1): a step to u = 50 drives y towards 100; the trip is at 40.
+    log = fresh("trip_traffic.log")
+    emu = Emulator("--plant", "2/(0.5*s+1)", "--rate", "100", "--saturate", "0:100", "--log", log)
+    rec = fresh("trip.csv")
+    code, out, err = run("step-test", "--port", emu.where, "--from", "0", "--to", "50",
+                         "--trip", "-10:40", "--settle", "1", "--yes", "-o", rec)
+    time.sleep(0.3)
+    emu.stop()
+    check(code == 5, f"a trip exits 5 (got {code}: {err.strip()})")
+    check("trip" in err and "40" in err, f"the message names the trip ({err.strip()})")
+    t = traffic(log)
+    first_over = None
+    for rig_us, host_us, d, line in t:
+        if d == "out" and line.startswith("s "):
+            f = line.split()
+            if float(f[5]) > 40:
+                first_over = int(f[2])
+                break
+    safe_at = next((rig_us for rig_us, _, d, line in t if d == "in" and line.startswith("safe ")),
+                   None)
+    check(first_over is not None and safe_at is not None, "a sample over 40 and a safe line")
+    if first_over is not None and safe_at is not None:
+        check(0 <= safe_at - first_over <= 10000,
+              f"safe arrived within one sample period (10 ms) of the trip sample "
+              f"({(safe_at - first_over) / 1000} ms)")
+    _, comments, _, rows = read_recording(rec)
+    check(any(c.startswith("trip:") for c in comments), "the trip is noted in the recording")
+    check(max(r[3] for r in rows) > 40, "the recording holds the tripping sample")
+
+
+def case_signals():
+    # SIGINT during a step test: safe stop first, the recording closed after it, exit 5.
+    log = fresh("sigint_traffic.log")
+    emu = Emulator("--plant", "1/(2*s+1)", "--rate", "100", "--log", log)
+    rec = fresh("sigint.csv")
+    p = subprocess.Popen([BIN, "step-test", "--port", emu.where, "--from", "0", "--to", "20",
+                          "--settle", "2", "--yes", "-o", rec], stdout=subprocess.PIPE,
+                         stderr=subprocess.PIPE, text=True, cwd=WORK)
+    time.sleep(3.5)  # inside the step phase: hold 2 s, baseline 0.5 s, step 2 s
+    p.send_signal(signal.SIGINT)
+    out, err = p.communicate(timeout=30)
+    time.sleep(0.3)
+    emu.stop()
+    check(p.returncode == 5, f"SIGINT exits 5 (got {p.returncode}: {err.strip()})")
+    check("signal" in err, f"the message names the signal ({err.strip()})")
+    check(any(d == "in" and l.startswith("safe ") for _, _, d, l in traffic(log)),
+          "the rig received the safe stop")
+    _, comments, _, _ = read_recording(rec)
+    check(any("safe stop sent" in c for c in comments), "the recording notes the safe stop")
+
+    # SIGKILL of the host: the emulator's watchdog drives the actuator to its safe value.
+    emu = Emulator("--plant", "1/(2*s+1)", "--rate", "100", "--watchdog", "300", "--safe", "0")
+    p = subprocess.Popen([BIN, "step-test", "--port", emu.where, "--from", "10", "--to", "20",
+                          "--settle", "2", "--yes", "-o", fresh("killed.csv")],
+                         stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, cwd=WORK)
+    time.sleep(3.5)
+    p.kill()
+    p.wait()
+    time.sleep(1.0)
+    emu_err = emu.stop()
+    check("watchdog" in emu_err, f"the emulator's watchdog tripped ({emu_err[-400:]!r})")
+    _, _, _, rows = read_recording(os.path.join(WORK, "killed.csv"))
+    check(len(rows) > 0, "the killed host's recording holds what it received")
+
+
+def case_limits():
+    emu = Emulator("--plant", "1/(2*s+1)", "--rate", "100", "--saturate", "0:100")
+    code, out, err = run("step-test", "--port", emu.where, "--from", "0", "--to", "150", "--yes",
+                         "-o", fresh("no.csv"))
+    check(code == 2 and "refused" in err and "100" in err,
+          f"a value above the rig's range is refused (exit {code}: {err.strip()})")
+    code, out, err = run("step-test", "--port", emu.where, "--from", "0", "--to", "30",
+                         "--max-step", "20", "--yes", "-o", fresh("no2.csv"))
+    check(code == 2 and "maximum step" in err, f"a step over --max-step is refused ({err.strip()})")
+    code, out, err = run("apply", "--port", emu.where, "--gain", "5", "--max-gain", "2", "--yes")
+    check(code == 2 and "maximum gain" in err, f"a gain over --max-gain is refused ({err.strip()})")
+    code, out, err = run("step-test", "--port", emu.where, "--from", "0", "--to", "10",
+                         "-o", fresh("no3.csv"))
+    check(code == 2 and "--yes" in err, f"without a terminal --yes is needed ({err.strip()})")
+    emu_err = emu.stop()
+    check(not os.path.exists(os.path.join(WORK, "no.csv")), "no recording for a refused test")
+    check(re.search(r"host lines (\d+) valid", emu_err) is not None, "emulator reports host lines")
+    # Dry run: every line with a correct CRC, nothing opened.
+    code, out, err = run("step-test", "--port", "/dev/null/none", "--from", "0", "--to", "10",
+                         "--dry-run", "-o", fresh("dry.csv"))
+    check(code == 0, f"dry run exits 0 (got {code}: {err.strip()})")
+    sent = [l[len("would send: "):] for l in out.splitlines() if l.startswith("would send: ")]
+    words = [s.split()[0] for s in sent]
+    check(words == ["hello", "go", "u", "u", "u", "halt"], f"dry-run lines in order ({words})")
+    for s in sent:
+        body, _, crc = s.rpartition(" *")
+        check(crc == "%04X" % crc16_ccitt_false(body.encode()), f"CRC of '{s}'")
+    check(not os.path.exists(os.path.join(WORK, "dry.csv")), "a dry run writes no recording")
+
+
+def case_tune():
+    # The conveyor scenario: 0.021 exp(-0.12 s) / (0.85 s + 1) (io/rig_scenario.h).
+    emu = Emulator("--scenario", "conveyor-drive", "--speed", "8", "--seed", "5")
+    out_dir = os.path.join(WORK, "tune_run")
+    if os.path.isdir(out_dir):
+        import shutil
+        shutil.rmtree(out_dir)
+    code, out, err = run("tune", "--port", emu.where, "--controller", "pi:1.2", "--yes",
+                         "--overshoot-max", "10", "--dir", out_dir, timeout=300)
+    emu.stop()
+    check(code == 0, f"tune exits 0 (got {code}: {err.strip()[-600:]})")
+    import json
+    try:
+        with open(os.path.join(out_dir, "model.json")) as f:
+            model = json.load(f)
+        params = {p["name"]: p["value"] for p in model["parameters"]}
+        print("fitted", params)
+        # The scenario's truth: gain 0.021 (m/s)/%, time constant 0.85 s, dead time 0.12 s.
+        for name, true in (("gain", 0.021), ("time_constant", 0.85), ("dead_time", 0.12)):
+            v = params.get(name)
+            check(v is not None and abs(v / true - 1) <= 0.05,
+                  f"{name} within 5 % of {true} (got {v})")
+        check(model.get("structure") == "fopdt", f"first order with dead time chosen ({model.get('structure')})")
+        with open(os.path.join(out_dir, "check.json")) as f:
+            verdict = json.load(f)["verdict"]
+        check(verdict == "confirmed", f"verify says confirmed (got {verdict})")
+    except (OSError, KeyError, ValueError) as e:
+        check(False, f"tune's files are readable ({e})")
+    check(os.path.exists(os.path.join(out_dir, "report.html")), "tune writes the report")
+
+
+CASES = {name[5:]: f for name, f in globals().items() if name.startswith("case_")}
+if CASE not in CASES:
+    print("unknown case", CASE)
+    sys.exit(2)
+CASES[CASE]()
+if failures:
+    print(f"{len(failures)} failure(s)")
+    sys.exit(1)
+print("ok")
