@@ -21,6 +21,17 @@ bool HoldsProfile(const std::string& dir) {
 
 }  // namespace
 
+// The workspace folder; UsageError outside one (for commands that cannot run without it).
+std::string RequireWorkspace(const Context& ctx) {
+  std::optional<std::string> dir = FindWorkspace(ctx);
+  if (!dir) {
+    throw UsageError(
+        "not inside a rig workspace: pass --rig DIR or run it inside a folder made by "
+        "`loopwright init`");
+  }
+  return *dir;
+}
+
 std::optional<std::string> FindWorkspace(const Context& ctx) {
   if (!ctx.rig_dir.empty()) {
     if (!HoldsProfile(ctx.rig_dir)) {
@@ -41,26 +52,15 @@ std::optional<RigProfile> LoadRigProfile(const Context& ctx) {
 }
 
 RigProfile RequireRigProfile(const Context& ctx) {
-  std::optional<RigProfile> profile = LoadRigProfile(ctx);
-  if (!profile) {
-    throw UsageError(
-        "this command needs a rig workspace: pass --rig DIR or run it inside a folder made by "
-        "`loopwright init`");
-  }
-  return *profile;
+  return ReadRigProfile((fs::path(RequireWorkspace(ctx)) / kProfileFileName).string());
 }
 
 Logbook OpenWorkspaceLogbook(const Context& ctx, std::string* workspace) {
-  std::optional<std::string> dir = FindWorkspace(ctx);
-  if (!dir) {
-    throw UsageError(
-        "not inside a rig workspace: pass --rig DIR or run inside a folder made by `loopwright "
-        "init`");
-  }
-  if (workspace) *workspace = *dir;
+  const std::string dir = RequireWorkspace(ctx);
+  if (workspace) *workspace = dir;
   LogbookOptions options;
   options.read_only = true;
-  return Logbook::Open((fs::path(*dir) / kLogbookFileName).string(), options);
+  return Logbook::Open((fs::path(dir) / kLogbookFileName).string(), options);
 }
 
 void LogResult(const Context& ctx, std::string_view kind, std::string_view outcome,

@@ -50,9 +50,11 @@ std::optional<std::string> FindWorkspace(const Context& ctx);
 // FindWorkspace. For commands that need the rig's limits (link, sample period, actuator and trip
 // limits, maximum gain): use RequireRigProfile when they cannot run without one.
 std::optional<RigProfile> LoadRigProfile(const Context& ctx);
-// As LoadRigProfile, but throws UsageError("this command needs a rig workspace: pass --rig DIR
-// or run it inside a folder made by `loopwright init`") outside a workspace.
+// As LoadRigProfile, but throws UsageError("not inside a rig workspace: pass --rig DIR or run it
+// inside a folder made by `loopwright init`") outside a workspace.
 RigProfile RequireRigProfile(const Context& ctx);
+// The workspace folder, or that UsageError outside one.
+std::string RequireWorkspace(const Context& ctx);
 
 // The workspace's logbook opened read-only (for `log`, `drift`), and the workspace folder in
 // *workspace when not null. Throws UsageError("not inside a rig workspace: ...") outside one,
