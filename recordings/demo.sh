@@ -53,18 +53,34 @@ echo "model file: heater_zone_model.json (parameters, covariance, provenance)"
 
 banner "find every PI gain whose closed loop overshoots <= 10 % and settles (2 %) within 1000 s"
 run "$bin" band "$out/heater_zone_model.json" --controller pi:0.004 --overshoot-max 10 \
-  --settle-max 1000 -o "$out/heater_zone_band.json"
+  --settle-max 1000 --save "$out/heater_zone_band.json" --plot "$out/heater_zone_locus.svg"
+echo "band figures: $out/heater_zone_locus.svg (root locus over the admissible region)"
+echo "              $out/heater_zone_locus-metrics.svg (rise, overshoot, settling against K)"
 
 banner "predict the loop at a gain inside the band, for a 150 -> 170 setpoint step, heater 0-100 %"
 run "$bin" predict "$out/heater_zone_model.json" --controller pi:0.004 --gain 0.46 \
-  --reference step:150:170:60 --duration 1500 --actuator 0:100
-# the same prediction saved as JSON for the report
-"$bin" predict "$out/heater_zone_model.json" --controller pi:0.004 --gain 0.46 \
-  --reference step:150:170:60 --duration 1500 --actuator 0:100 --json \
-  > "$out/heater_zone_prediction.json.tmp"
-mv "$out/heater_zone_prediction.json.tmp" "$out/heater_zone_prediction.json"
+  --reference step:150:170:60 --duration 1500 --actuator 0:100 --overshoot-max 10 \
+  --save "$out/heater_zone_prediction.json" --plot "$out/heater_zone_response.svg"
+echo "prediction figure: $out/heater_zone_response.svg (envelope over the fit's parameter draws)"
 
 # Pattern for further steps: banner "what this step shows"; run "$bin" COMMAND ...; files go to "$out".
+
+# ---- refit after a hardware change (h4) ----
+banner "after the heater band was replaced: refit the zone, compare with the first model and band"
+run "$bin" fit "$here/heater_zone_after_rework.csv" --compare "$out/heater_zone_model.json" \
+  --band "$out/heater_zone_band.json" -o "$out/heater_zone_rework_model.json"
+echo "new model file: heater_zone_rework_model.json (its details hold the comparison)"
+
+banner "fit the plant inside the loop from the closed-loop recording (PI 1.2 (s + 0.005)/s)"
+run "$bin" fit "$here/heater_zone_closed_loop.csv" --closed-loop --controller pi:0.005 --gain 1.2
+
+# ---- check the model against the closed-loop recording (h3) ----
+banner "check the model against the zone's closed-loop recording (PI 1.2 (s + 0.005)/s, heater 0-100 %)"
+check_status=0
+run "$bin" check "$out/heater_zone_model.json" --controller pi:0.005 --gain 1.2 \
+  "$here/heater_zone_closed_loop.csv" --actuator 0:100 --plot "$out/heater_zone_check.svg" \
+  --save "$out/heater_zone_check.json" || check_status=$?
+echo "check verdict: $(sed -n 's/.*"verdict": "\([a-z]*\)".*/\1/p' "$out/heater_zone_check.json") (exit $check_status; 0 confirmed, 1 stale or saturated)"
 
 # ---- rig workspace and logbook (h5) ----
 banner "keep a rig workspace: a profile and a logbook; fit both heater zone step tests into it"
@@ -80,10 +96,27 @@ run "$bin" log --rig "$out/heater_rig"
 run "$bin" drift --rig "$out/heater_rig" --plot "$out/heater_rig/drift.svg"
 echo "drift figure: $out/heater_rig/drift.svg"
 
+# ---- the whole tune job on the emulated heater zone (h8) ----
+banner "tune the emulated heater zone end to end: step test, fit, band, gain, verify, report"
+echo "(loopwright emulate runs the zone's synthetic plant on a pseudo-terminal, 300x real time)"
+emu_out=$(mktemp)
+"$bin" emulate --scenario heater-zone --pty --speed 300 --seed 7 >"$emu_out" 2>"$out/emulator.log" &
+emu_pid=$!
+for _ in $(seq 100); do [ -s "$emu_out" ] && break; sleep 0.1; done
+rig_port=$(head -n 1 "$emu_out")
+rm -rf "$out/heater_tune"
+tune_status=0
+run "$bin" --rig "$out/heater_rig" tune --port "$rig_port" --controller pi:0.004 \
+  --overshoot-max 10 --settle-max 1000 --yes --dir "$out/heater_tune" || tune_status=$?
+kill -TERM "$emu_pid" 2>/dev/null || true
+wait "$emu_pid" 2>/dev/null || true
+rm -f "$emu_out"
+echo "tune exit status $tune_status (0: verify confirmed); files in $out/heater_tune"
+
 # ---- figures and the report (h7): keep this the last step ----
 banner "assemble the one-page HTML report from the model, band, prediction and fit figure"
 report_inputs=("$out/heater_zone_model.json")
-for f in "$out"/*_band.json "$out"/*_prediction.json "$out"/*.svg; do
+for f in "$out"/*_band.json "$out"/*_prediction.json "$out"/*_check.json "$out"/*.svg; do
   [ -f "$f" ] && report_inputs+=("$f")
 done
 run "$bin" report "${report_inputs[@]}" --title "Extruder heater zone tuning (synthetic demo)" \
