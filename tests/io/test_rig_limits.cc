@@ -2,6 +2,7 @@
 // tightest bound, and refusals say which limit and by how much. The bounds are plain
 // inequalities; the numbers are our own.
 #include "io/rig_limits.h"
+#include "io/rig_profile.h"  // LimitsFromProfile takes the full profile
 
 #include <cmath>
 
