@@ -76,12 +76,18 @@ void WaitForRest(RigSession& s, RigProgress& progress, const std::string& phase,
         [&] { progress.Show(phase, need - (all.empty() ? 0.0 : Seconds(all.back()) - t_begin)); });
     return;
   }
-  const double level = all[begin == 0 ? 0 : std::min(begin, all.size()) - 1].output;
+  // The level before the change: the mean of up to 20 samples before it (one noisy sample
+  // would make the change look larger or smaller than it is).
+  const size_t stop = std::max<size_t>(1, std::min(begin, all.size()));
+  const size_t first = stop > 20 ? stop - 20 : 0;
+  double level = 0.0;
+  for (size_t k = first; k < stop; ++k) level += all[k].output;
+  level /= static_cast<double>(stop - first);
   SteadyStateOptions o;
   o.require_change = require_change;
   // A hold before a step must be truly at rest (the fit and the check assume the step starts
   // from rest): a tenth of the band a response is judged settled by.
-  if (!require_change) o.band = 0.002;
+  if (phase.rfind("hold", 0) == 0 || phase.rfind("closed loop", 0) == 0) o.band = 0.002;
   std::vector<double> y;
   size_t used = begin;
   s.WaitUntil(
@@ -102,7 +108,8 @@ void WaitForRest(RigSession& s, RigProgress& progress, const std::string& phase,
 namespace {
 
 struct StepActions {
-  std::function<void()> start, step, finish;
+  std::function<bool()> start;  // true: the hold must see the output move before it rests
+  std::function<void()> step, finish;
   std::string hold_phase, step_phase, note;
 };
 
@@ -115,8 +122,13 @@ StepOutcome RunStep(Context& ctx, RigSession& s, const PhaseTiming& timing, cons
   s.SetStreaming(true);
   WaitFirstSample(s, progress);
   size_t begin = s.samples().size();
-  a.start();
-  WaitForRest(s, progress, a.hold_phase, begin, timing, false);
+  const bool moved = a.start();
+  WaitForRest(s, progress, a.hold_phase, begin, timing, moved);
+  if (!s.dry_run() && timing.min_hold_s > 0.0) {
+    const double t0 = Seconds(s.samples()[std::min(begin, s.samples().size() - 1)]);
+    s.WaitUntil([&] { return Seconds(s.samples().back()) - t0 >= timing.min_hold_s; },
+                [&] { progress.Show(a.hold_phase); });
+  }
   auto sink = StartRecording(s, path, provenance);
   double baseline_s = timing.settle_s ? *timing.settle_s / 4.0 : 0.0;
   RecordBaseline(s, progress, s.dry_run() ? 0 : kBaselineSamples, baseline_s);
@@ -144,7 +156,12 @@ StepOutcome RunOpenLoopStep(Context& ctx, RigSession& s, double from, double to,
                             const PhaseTiming& timing, const std::string& path,
                             const std::string& provenance) {
   StepActions a;
-  a.start = [&] { s.SetActuator(from); };
+  a.start = [&] {
+    // Moving the actuator to `from`: wait for the output to answer (a dead time looks like rest).
+    bool moves = !s.samples().empty() && s.samples().back().actuator != from;
+    s.SetActuator(from);
+    return moves;
+  };
   a.step = [&] { s.SetActuator(to); };
   a.finish = [&] { s.SetActuator(from); };
   a.hold_phase = "hold at " + FormatNumber(from, 6);
@@ -158,7 +175,10 @@ StepOutcome RunClosedLoopStep(Context& ctx, RigSession& s, const std::string& co
                               const PhaseTiming& timing, const std::string& path,
                               const std::string& provenance) {
   StepActions a;
-  a.start = [&] { s.CloseLoop(controller, gain, ref_from); };
+  a.start = [&] {
+    s.CloseLoop(controller, gain, ref_from);
+    return false;
+  };
   a.step = [&] { s.SetReference(ref_to); };
   a.hold_phase = "closed loop at " + FormatNumber(ref_from, 6);
   a.step_phase = "reference " + FormatNumber(ref_to, 6);

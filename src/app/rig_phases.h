@@ -31,13 +31,14 @@ namespace lw::app {
 struct PhaseTiming {
   std::optional<double> settle_s;  // fixed seconds per phase; none: auto
   double max_wait_s = 3600.0;      // rig seconds per phase, > 0
+  double min_hold_s = 0.0;         // the hold before a step lasts at least this long
 };
 
 // "auto" or a number of seconds > 0; UsageError naming --settle otherwise.
 std::optional<double> ParseSettle(const std::string& text);
 
 // Waits for rest of the output after the change at sample index `begin` (the level before it
-// is the y of sample begin - 1, or of begin when it is the first).
+// is the mean y of the up to 20 samples before `begin`, or the first sample's y).
 void WaitForRest(RigSession& s, RigProgress& progress, const std::string& phase, size_t begin,
                  const PhaseTiming& timing, bool require_change);
 

@@ -4,7 +4,7 @@
 //                  [rig options]`            (the workspace: the global --rig DIR)
 //
 // The whole job on one rig session, every file in OUT and every result in the rig logbook:
-//   1. step test U0 -> U1 (default: U0 the rig's safe value, U1 = U0 + 10 % of the actuator
+//   1. step test U0 -> U1 (default: U0 40 % up the actuator range, U1 = U0 + 10 % of the actuator
 //      range, downwards when upwards does not fit, no more than --max-step) -> step.csv
 //   2. `fit step.csv` -> model.json, fit.svg
 //   3. `band model.json` with the specs (options, else the profile's [specs], else an overshoot
@@ -75,7 +75,8 @@ class TuneCommand : public Command {
   void Configure(CLI::App& sub) override {
     rig_.Add(sub, /*drives=*/true);
     controller_.Add(sub, /*gain_required=*/false);
-    sub.add_option("--from", from_, "Step test: actuator before the step (default: safe value)");
+    sub.add_option("--from", from_,
+                   "Step test: actuator before the step (default: 40 % up the range)");
     sub.add_option("--to", to_, "Step test: actuator after the step (default: see --help)");
     sub.add_option("--ref-step", ref_step_,
                    "Verification step A:B (default: from the step test's levels)");
@@ -108,7 +109,7 @@ class TuneCommand : public Command {
     auto session = ConnectRig(ctx, rig, guard, /*drives=*/true);
     const RigCaps caps = session->caps();
     const RigLimits& limits = session->limits();
-    double u0 = from_ ? *from_ : caps.safe_value;
+    double u0 = from_ ? *from_ : DefaultStart(limits);
     double u1 = to_ ? *to_ : DefaultTarget(u0, limits);
     limits.RequireActuatorMove(u0, u1, RigLimits::kInf);
     ConfirmDriving(ctx, rig,
@@ -170,6 +171,7 @@ class TuneCommand : public Command {
     Banner(
         ctx, 6,
         "apply and verify: closed-loop step " + FormatNumber(a, 6) + " -> " + FormatNumber(b, 6));
+    timing.min_hold_s = step.duration_s;  // the loop starts on a plant still coming back to U0
     StepOutcome verify = RunClosedLoopStep(ctx, *session, controller.ToString(), gain, a, b, timing,
                                            file("closed_loop.csv"), tag);
     session->SafeStop("tune: closed-loop step recorded");
@@ -204,6 +206,15 @@ class TuneCommand : public Command {
   }
 
  private:
+  // 40 % up the actuator range: room for the loop's actuator to move both ways in the
+  // closed-loop step (a loop resting at a limit would saturate and the linear check not apply).
+  static double DefaultStart(const RigLimits& l) {
+    if (!std::isfinite(l.actuator_lo) || !std::isfinite(l.actuator_hi)) {
+      throw UsageError("the actuator range is unbounded: give the step test's --from and --to");
+    }
+    return l.actuator_lo + 0.4 * (l.actuator_hi - l.actuator_lo);
+  }
+
   static double DefaultTarget(double u0, const RigLimits& l) {
     if (!std::isfinite(l.actuator_lo) || !std::isfinite(l.actuator_hi)) {
       throw UsageError("the actuator range is unbounded: give the step test's --from and --to");
