@@ -425,37 +425,11 @@ ClosedLoopFit FitClosedLoop(const ClosedLoopRecording& rec, const ClosedLoopFitO
   fo.input_unit = options.input_unit;
   fo.output_unit = options.output_unit;
   const StepRecording open{rec.t, rec.u, rec.y};
-  if (options.structure != "auto") {
-    fo.structure = options.structure;
-    return PolishInLoop(rec, options, Identify(open, fo), first_move);
-  }
-  // auto: every structure in closed loop, the lowest AICc of the output channel wins.
-  std::optional<ClosedLoopFit> best;
-  std::vector<Candidate> candidates;
-  for (Structure s : AllStructures()) {
-    Candidate c;
-    c.structure = s;
-    c.free_parameters = ParameterCount(s) + 2;
-    try {
-      fo.structure = std::string(StructureName(s));
-      ClosedLoopFit f = PolishInLoop(rec, options, Identify(open, fo), first_move);
-      c.usable = true;
-      c.fit_percent = f.model.fit_percent;
-      c.residual_rms = f.model.residual_rms;
-      c.aicc = f.model.aicc;
-      if (!best || f.model.aicc < best->model.aicc) best = std::move(f);
-    } catch (const Error& e) {
-      c.note = e.what();
-    }
-    candidates.push_back(c);
-  }
-  if (!best) {
-    throw JobFailed("no structure could be fitted in the loop: " + candidates.front().note);
-  }
-  for (auto& c : candidates) c.delta_aicc = c.usable ? c.aicc - best->model.aicc : kInf;
-  best->automatic = true;
-  best->candidates = std::move(candidates);
-  return std::move(*best);
+  // "auto": the structure the open-loop start chose by AICc, polished in the loop. (Polishing
+  // every structure in the loop was tried and can take minutes: candidates whose loop is barely
+  // stable need many internal steps per simulation.)
+  fo.structure = options.structure;
+  return PolishInLoop(rec, options, Identify(open, fo), first_move);
 }
 
 }  // namespace lw

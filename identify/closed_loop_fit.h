@@ -34,11 +34,9 @@
 // Uncertainty: 95 % intervals value +- t(0.975, n - p) sd, sd from Ceres' (J'J)^-1 of the weighted
 // problem scaled by RSS / (n - p), n counting both channels' samples (as identify/fit.h does).
 //
-// Structure: `structure` names one (model_structure.h); "auto" fits every structure in closed
-// loop (each from its own open-loop start) and keeps the lowest AICc of the output channel,
-// n ln(RSS_y / n) + 2k + 2k(k + 1)/(n - k - 1) with k counting y_rest and u_rest too (the
-// criterion identify/fit.h uses; the y channel alone, because the channel weights differ between
-// candidates). A structure that cannot be fitted is listed with the reason.
+// Structure: `structure` names one (model_structure.h); "auto" takes the structure the open-loop
+// start chose by AICc (identify/fit.h) and fits that one in the loop. The criterion reported
+// (aicc) is that of the output channel, n ln(RSS_y / n) + 2k + 2k(k + 1)/(n - k - 1).
 //
 // Assumptions, said plainly: the controller is linear and the actuator never at a limit (a loop
 // that clipped u is outside this model; the clipped stretch is warned about), the rig is at rest
@@ -82,8 +80,6 @@ struct ClosedLoopFit {
   double output_sd = 0.0, input_sd = 0.0;  // the final channel weights' sd
   bool input_sd_floored = false;           // sd_u was held at K_hf sd_y
   int solves = 0;                          // weighted solves run
-  bool automatic = false;                  // "auto": candidates holds every structure tried
-  std::vector<Candidate> candidates;       // fit percent, residual rms and AICc are y's
   std::vector<std::string> warnings;
 };
 

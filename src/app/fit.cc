@@ -276,8 +276,6 @@ class FitCommand : public Command {
         id.analysis = loop_fit->start.analysis;
         id.samples_in = rec.t.size();
         id.warnings = loop_fit->warnings;
-        id.automatic = loop_fit->automatic;
-        id.candidates = loop_fit->candidates;
       } else {
         id = Identify(data, options);
       }
