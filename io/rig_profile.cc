@@ -76,7 +76,7 @@ std::optional<RigProfile::Problem> ProblemOf(const RigProfile& p) {
   using Problem = RigProfile::Problem;
   auto finite = [](const std::optional<double>& v) { return !v || std::isfinite(*v); };
   if (p.name.empty()) return Problem{"name", "name must not be empty"};
-  const RigLink& l = p.link;
+  const RigLinkSettings& l = p.link;
   if (l.kind == LinkKind::kSerial) {
     if (l.device.empty()) {
       return Problem{"link.device", "link.device must name the serial device for kind \"serial\""};
@@ -246,7 +246,7 @@ std::string_view LinkKindName(LinkKind kind) {
   return "none";
 }
 
-std::string RigLink::Host() const {
+std::string RigLinkSettings::Host() const {
   std::string host = address.substr(0, address.rfind(':'));
   if (host.size() >= 2 && host.front() == '[' && host.back() == ']') {
     host = host.substr(1, host.size() - 2);
@@ -254,7 +254,7 @@ std::string RigLink::Host() const {
   return host;
 }
 
-int RigLink::Port() const { return std::atoi(address.substr(address.rfind(':') + 1).c_str()); }
+int RigLinkSettings::Port() const { return std::atoi(address.substr(address.rfind(':') + 1).c_str()); }
 
 std::optional<RigProfile::Problem> RigProfile::FirstProblem() const { return ProblemOf(*this); }
 

@@ -48,7 +48,7 @@ enum class LinkKind { kNone, kSerial, kTcp };
 // "none", "serial", "tcp".
 std::string_view LinkKindName(LinkKind kind);
 
-struct RigLink {
+struct RigLinkSettings {
   LinkKind kind = LinkKind::kNone;
   std::string device;   // serial only, e.g. "/dev/ttyUSB0"
   int baud = 115200;    // serial only
@@ -70,7 +70,7 @@ struct RigSpecDefaults {
 
 struct RigProfile {
   std::string name;
-  RigLink link;
+  RigLinkSettings link;
   double sample_period_s = 0.1;
   std::optional<double> actuator_min, actuator_max;
   double actuator_safe = 0.0;

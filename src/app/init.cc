@@ -164,7 +164,7 @@ class InitCommand : public Command {
     return key;
   }
 
-  static std::string LinkText(const RigLink& link) {
+  static std::string LinkText(const RigLinkSettings& link) {
     switch (link.kind) {
       case LinkKind::kSerial:
         return "serial " + link.device + " at " + std::to_string(link.baud);

@@ -15,8 +15,8 @@
 //   --yes             confirm without a question (needed when stdin or stderr is no terminal)
 //   --dry-run         open nothing; print every line the command would send
 //
-// This header deliberately includes neither io/rig_link.h nor io/rig_profile.h (both name a
-// `RigLink`); rig_options.cc is the only app file that reads the profile.
+// This header includes neither io/rig_link.h nor io/rig_profile.h; rig_options.cc is the only
+// app file that reads the profile.
 #ifndef LOOPWRIGHT_APP_RIG_OPTIONS_H_
 #define LOOPWRIGHT_APP_RIG_OPTIONS_H_
 
