@@ -87,7 +87,7 @@ echo "check verdict: $(sed -n 's/.*"verdict": "\([a-z]*\)".*/\1/p' "$out/heater_
 banner "keep a rig workspace: a profile and a logbook; fit both heater zone step tests into it"
 rm -rf "$out/heater_rig"  # the demo's own workspace from an earlier run
 run "$bin" init "$out/heater_rig" --name "extruder zone 3" --period 1 --actuator 0:100 \
-  --actuator-unit % --trip 0:260 --output-unit degC --max-gain 2
+  --actuator-unit % --trip -20:260 --output-unit degC --max-gain 2
 run "$bin" --rig "$out/heater_rig" fit "$here/heater_zone_step.csv" --structure sopdt > /dev/null
 run "$bin" --rig "$out/heater_rig" fit "$here/heater_zone_after_rework.csv" --structure sopdt \
   > /dev/null
