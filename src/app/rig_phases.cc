@@ -137,6 +137,12 @@ StepOutcome RunStep(Context& ctx, RigSession& s, const PhaseTiming& timing, cons
   size_t step = s.samples().size();
   a.step();
   if (!s.dry_run()) out.step_time_s = Seconds(s.samples().back());
+  // A slow response can look at rest just after it starts to move; the response is recorded
+  // for at least the hold time too (tune sets it to the step test's length).
+  if (!s.dry_run() && timing.min_hold_s > 0.0) {
+    s.WaitUntil([&] { return Seconds(s.samples().back()) - out.step_time_s >= timing.min_hold_s; },
+                [&] { progress.Show(a.step_phase); });
+  }
   WaitForRest(s, progress, a.step_phase, step, timing, true);
   progress.End();
   StopRecording(s, sink, out);

@@ -31,7 +31,8 @@ namespace lw::app {
 struct PhaseTiming {
   std::optional<double> settle_s;  // fixed seconds per phase; none: auto
   double max_wait_s = 3600.0;      // rig seconds per phase, > 0
-  double min_hold_s = 0.0;         // the hold before a step lasts at least this long
+  double min_hold_s = 0.0;         // the hold before a step, and the recorded response after
+                                   // it, last at least this long
 };
 
 // "auto" or a number of seconds > 0; UsageError naming --settle otherwise.
