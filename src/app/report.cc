@@ -13,12 +13,15 @@
 #include <fstream>
 #include <iterator>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include <nlohmann/json.hpp>
 
 #include "app/command.h"
 #include "app/output.h"
+#include "identify/model_structure.h"
+#include "identify/model_text.h"
 #include "io/model_file.h"
 #include "io/report.h"
 #include "lti/error.h"
@@ -27,6 +30,33 @@ namespace lw::app {
 namespace {
 
 using nlohmann::json;
+
+// The metric keys of a saved prediction or check (predict's --json keys) and their row labels.
+constexpr std::pair<const char*, const char*> kMetricRows[] = {
+    {"rise_time", "rise time (s)"},
+    {"overshoot_percent", "overshoot (%)"},
+    {"peak_time", "peak time (s)"},
+    {"settling_time", "settling time (s)"},
+    {"steady_state_error", "steady-state error"},
+    {"peak_actuator", "peak actuator"}};
+
+// The model in its structure's factored form (identify/model_text.h) when the file names one of
+// fit's structures and holds its parameters; else the transfer function's coefficients.
+std::string ModelLine(const ModelDocument& m) {
+  try {
+    const Structure st = ParseStructure(m.structure);
+    std::vector<double> values;
+    for (const std::string& name : ParameterNames(st)) {
+      auto it = std::find_if(m.parameters.begin(), m.parameters.end(),
+                             [&](const ModelParameter& p) { return p.name == name; });
+      if (it == m.parameters.end()) return m.tf.ToString();
+      values.push_back(it->value);
+    }
+    return FactoredModelText(st, values);
+  } catch (const UsageError&) {
+    return m.tf.ToString();
+  }
+}
 
 std::string ReadWhole(const std::string& path) {
   std::ifstream in(path, std::ios::binary);
@@ -76,7 +106,7 @@ class Builder {
 
     ReportSection model{"Model", {}, {}, {}};
     model.paragraphs.push_back("Structure: " + m.structure +
-                               ". Transfer function G(s) = " + m.tf.ToString() + ".");
+                               ". Transfer function G(s) = " + ModelLine(m) + ".");
     if (m.details.contains("fit_percent"))
       model.paragraphs.push_back("Fit " + Text(m.details["fit_percent"]) +
                                  " % of the output variation explained; residual rms " +
@@ -126,14 +156,7 @@ class Builder {
                            Text(doc.value("reference", json())) + ".");
     ReportTable t{{"quantity", "predicted"}, {}};
     const json& m = doc["metrics"];
-    const std::pair<const char*, const char*> rows[] = {
-        {"rise_time", "rise time (s)"},
-        {"overshoot_percent", "overshoot (%)"},
-        {"peak_time", "peak time (s)"},
-        {"settling_time", "settling time (s)"},
-        {"steady_state_error", "steady-state error"},
-        {"peak_actuator", "peak actuator"}};
-    for (const auto& [key, label] : rows)
+    for (const auto& [key, label] : kMetricRows)
       if (m.contains(key)) t.rows.push_back({label, Text(m[key])});
     if (doc.contains("margins")) {
       const json& g = doc["margins"];
@@ -197,13 +220,6 @@ class Builder {
                            "; tolerances from " + Text(doc.value("draws", json())) +
                            " parameter draws and " + Text(doc.value("noise_replicates", json())) +
                            " noise replicates.");
-    const std::pair<const char*, const char*> rows[] = {
-        {"rise_time", "rise time (s)"},
-        {"overshoot_percent", "overshoot (%)"},
-        {"peak_time", "peak time (s)"},
-        {"settling_time", "settling time (s)"},
-        {"steady_state_error", "steady-state error"},
-        {"peak_actuator", "peak actuator"}};
     for (const json& st : doc["steps"]) {
       ReportTable t{
           {"step " + Text(st.value("from", json())) + " → " + Text(st.value("to", json())) +
@@ -215,7 +231,7 @@ class Builder {
       const json& pred = st.contains("predicted") ? st["predicted"] : none;
       const json& tol = st.contains("tolerance") ? st["tolerance"] : none;
       const json& ok = st.contains("consistent") ? st["consistent"] : none;
-      for (const auto& [key, label] : rows) {
+      for (const auto& [key, label] : kMetricRows) {
         std::string range = "n/a";
         if (tol.contains(key) && tol[key].is_array() && tol[key].size() == 2)
           range = Text(tol[key][0]) + " to " + Text(tol[key][1]);
