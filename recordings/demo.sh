@@ -65,7 +65,7 @@ echo "prediction figure: $out/heater_zone_response.svg (envelope over the fit's 
 
 # Pattern for further steps: banner "what this step shows"; run "$bin" COMMAND ...; files go to "$out".
 
-# ---- refit after a hardware change (h4) ----
+# ---- refit after a hardware change ----
 banner "after the heater band was replaced: refit the zone, compare with the first model and band"
 run "$bin" fit "$here/heater_zone_after_rework.csv" --compare "$out/heater_zone_model.json" \
   --band "$out/heater_zone_band.json" -o "$out/heater_zone_rework_model.json"
@@ -75,7 +75,7 @@ banner "fit the plant inside the loop from the closed-loop recording (PI 1.2 (s 
 run "$bin" fit "$here/heater_zone_closed_loop.csv" --closed-loop --controller pi:0.005 --gain 1.2 \
   --structure sopdt
 
-# ---- check the model against the closed-loop recording (h3) ----
+# ---- check the model against the closed-loop recording ----
 banner "check the model against the zone's closed-loop recording (PI 1.2 (s + 0.005)/s, heater 0-100 %)"
 check_status=0
 run "$bin" check "$out/heater_zone_model.json" --controller pi:0.005 --gain 1.2 \
@@ -83,7 +83,7 @@ run "$bin" check "$out/heater_zone_model.json" --controller pi:0.005 --gain 1.2 
   --save "$out/heater_zone_check.json" || check_status=$?
 echo "check verdict: $(sed -n 's/.*"verdict": "\([a-z]*\)".*/\1/p' "$out/heater_zone_check.json") (exit $check_status; 0 confirmed, 1 stale or saturated)"
 
-# ---- rig workspace and logbook (h5) ----
+# ---- rig workspace and logbook ----
 banner "keep a rig workspace: a profile and a logbook; fit both heater zone step tests into it"
 rm -rf "$out/heater_rig"  # the demo's own workspace from an earlier run
 run "$bin" init "$out/heater_rig" --name "extruder zone 3" --period 1 --actuator 0:100 \
@@ -97,7 +97,7 @@ run "$bin" log --rig "$out/heater_rig"
 run "$bin" drift --rig "$out/heater_rig" --plot "$out/heater_rig/drift.svg"
 echo "drift figure: $out/heater_rig/drift.svg"
 
-# ---- the whole tune job on the emulated heater zone (h8) ----
+# ---- the whole tune job on the emulated heater zone ----
 banner "tune the emulated heater zone end to end: step test, fit, band, gain, verify, report"
 echo "(loopwright emulate runs the zone's synthetic plant on a pseudo-terminal, 300x real time)"
 emu_out=$(mktemp)
@@ -114,7 +114,7 @@ wait "$emu_pid" 2>/dev/null || true
 rm -f "$emu_out"
 echo "tune exit status $tune_status (0: verify confirmed); files in $out/heater_tune"
 
-# ---- figures and the report (h7): keep this the last step ----
+# ---- figures and the report: keep this the last step ----
 banner "assemble the one-page HTML report from the model, band, prediction and fit figure"
 report_inputs=("$out/heater_zone_model.json")
 for f in "$out"/*_band.json "$out"/*_prediction.json "$out"/*_check.json "$out"/*.svg; do
