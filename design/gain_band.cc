@@ -4,6 +4,8 @@
 #include <cmath>
 #include <limits>
 
+#include "lti/root_tracker.h"
+
 namespace lw {
 namespace {
 
@@ -18,23 +20,79 @@ struct Piece {
   BandEdge lo_edge, hi_edge;
 };
 
-// Bisection in log K between a gain with verdict `va` and one with the opposite verdict.
-double LocateSwitch(const std::function<PoleVerdict(double)>& judge, double a, double b, bool va) {
-  for (int it = 0; it < 200 && b / a - 1.0 > 1e-10; ++it) {
-    double m = std::sqrt(a * b);
-    if (judge(m).meets == va)
-      a = m;
-    else
-      b = m;
+// The zero of f in [a, b] (log K), f(a) and f(b) of opposite signs, to an absolute width of
+// `tol`: Brent's method (R. P. Brent, Algorithms for Minimization without Derivatives, 1973,
+// ch. 4; from memory), inverse quadratic interpolation safeguarded by bisection. Returns the end
+// of the final bracket where |f| is smaller; the sign change lies within tol of it.
+template <class F>
+double Zeroin(const F& f, double a, double b, double fa, double fb, double tol) {
+  double c = a, fc = fa, d = b - a, e = d;
+  for (int it = 0; it < 200; ++it) {
+    if ((fb > 0.0) == (fc > 0.0)) {
+      c = a;
+      fc = fa;
+      d = e = b - a;
+    }
+    if (std::abs(fc) < std::abs(fb)) {
+      a = b;
+      b = c;
+      c = a;
+      fa = fb;
+      fb = fc;
+      fc = fa;
+    }
+    const double tol1 = 2.0 * std::numeric_limits<double>::epsilon() * std::abs(b) + 0.5 * tol;
+    const double xm = 0.5 * (c - b);
+    if (std::abs(xm) <= tol1 || fb == 0.0) break;
+    if (std::abs(e) >= tol1 && std::abs(fa) > std::abs(fb)) {
+      double p, q, r;
+      const double s = fb / fa;
+      if (a == c) {
+        p = 2.0 * xm * s;
+        q = 1.0 - s;
+      } else {
+        q = fa / fc;
+        r = fb / fc;
+        p = s * (2.0 * xm * q * (q - r) - (b - a) * (r - 1.0));
+        q = (q - 1.0) * (r - 1.0) * (s - 1.0);
+      }
+      if (p > 0.0) q = -q;
+      p = std::abs(p);
+      if (2.0 * p < std::min(3.0 * xm * q - std::abs(tol1 * q), std::abs(e * q))) {
+        e = d;
+        d = p / q;
+      } else {
+        d = xm;
+        e = d;
+      }
+    } else {
+      d = xm;
+      e = d;
+    }
+    a = b;
+    fa = fb;
+    b += std::abs(d) > tol1 ? d : std::copysign(tol1, xm);
+    fb = f(b);
   }
-  return std::sqrt(a * b);
+  return b;
 }
 
-BandEdge EdgeAt(const std::function<PoleVerdict(double)>& judge, double gain, Boundary b,
-                Complex pole) {
-  BandEdge e{gain, b, pole, Complex(kNaN, kNaN)};
-  if (gain > 0.0 && std::isfinite(gain)) e.dominant = judge(gain).dominant;
-  return e;
+// The signed distance of a verdict from changing: the lead (pole_verdict.h) with the sign of
+// the verdict itself, so a bracket is always a sign change even where rounding puts a pole on
+// the other side of a boundary it is about to cross; the smallest normal number when the lead
+// is not finite (then the root search bisects).
+double SignedLead(const PoleVerdict& v) {
+  const double m = std::isfinite(v.lead) ? std::abs(v.lead) : 0.0;
+  const double tiny = std::numeric_limits<double>::min();
+  return v.meets ? std::max(m, tiny) : -std::max(m, tiny);
+}
+
+// The gain in [a, b] (a < b) where the verdict changes, to 1e-10 relative; va, vb the verdicts
+// at a and b (opposite).
+double LocateSwitch(const std::function<PoleVerdict(double)>& judge, double a, double b,
+                    const PoleVerdict& va, const PoleVerdict& vb) {
+  auto f = [&](double x) { return SignedLead(judge(std::exp(x))); };
+  return std::exp(Zeroin(f, std::log(a), std::log(b), SignedLead(va), SignedLead(vb), 1e-10));
 }
 
 }  // namespace
@@ -50,11 +108,18 @@ GainSet LocusBand::gains() const {
 }
 
 LocusBand FindLocusBand(const LoopPolynomials& loop, const Region& region) {
-  Complex s(0.0, loop.FrequencyScale());
-  double ref = std::abs(loop.a(s)) / std::max(std::abs(loop.b(s)), 1e-300);
+  std::vector<BoundaryCrossing> crossings = AllCrossings(loop, region);
+  double ref = 1.0;  // only used without crossings
+  if (crossings.empty()) {
+    Complex s(0.0, loop.FrequencyScale());
+    ref = std::abs(loop.a(s)) / std::max(std::abs(loop.b(s)), 1e-300);
+  }
+  // The march judges gains in increasing order, mostly close together: the closed-loop poles
+  // are followed along K (lti/root_tracker.h) instead of solved afresh at each gain.
+  RootTracker tracker(loop.a, loop.b);
   return BandFromCrossings(
-      AllCrossings(loop, region), [&](double k) { return JudgeGain(loop, region, k); }, ref, region,
-      loop.pade_order);
+      std::move(crossings), [&](double k) { return JudgePoles(tracker.RootsAt(k), region); }, ref,
+      region, loop.pade_order);
 }
 
 LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
@@ -73,10 +138,11 @@ LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
     cuts.push_back(c);
   }
   const Complex nan_pole(kNaN, kNaN);
-  // Interval bounds: 0, cuts..., inf.
+  // Interval bounds: 0, cuts..., inf. A cut's dominant pole is found only when a meeting
+  // piece ends there (below).
   std::vector<BandEdge> bounds;
   bounds.push_back({0.0, Boundary::kGainZero, nan_pole, nan_pole});
-  for (const auto& c : cuts) bounds.push_back(EdgeAt(judge, c.gain, c.boundary, c.pole));
+  for (const auto& c : cuts) bounds.push_back({c.gain, c.boundary, c.pole, nan_pole});
   bounds.push_back({kInf, Boundary::kUnbounded, nan_pole, nan_pole});
 
   std::vector<Piece> pieces;
@@ -84,16 +150,22 @@ LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
     double lo = bounds[i].gain, hi = bounds[i + 1].gain;
     double jl = lo > 0.0 ? lo : (std::isfinite(hi) ? hi * 1e-3 : ref * 1e-3);
     double jh = std::isfinite(hi) ? hi : (lo > 0.0 ? lo * 1e3 : ref * 1e3);
-    // March through the interval in log K, with steps small enough that the gap between the
-    // dominant pole and the next one cannot close unseen (secant prediction of the gap, a third
-    // of the way to zero, at most a factor 2 in K), and split it where the verdict changes.
+    // March through the interval in log K, with steps small enough that the lead (the signed
+    // distance of the verdict from a dominance switch, pole_verdict.h) cannot reach zero unseen
+    // (its secant prediction, a third of the way, at most a factor 2 in K), and split it where
+    // the verdict changes.
     const double x_end = std::log(jh), span = x_end - std::log(jl);
     double x = std::log(jl) + 1e-7 * span;
     const double x_stop = x_end - 1e-7 * span;
     PoleVerdict prev = judge(std::exp(x));
+    if (i > 0 && (pieces.back().meets || prev.meets)) {
+      // The cut bounds a meeting piece: give its edge the dominant pole there.
+      bounds[i].dominant = judge(lo).dominant;
+      pieces.back().hi_edge = bounds[i];
+    }
     std::vector<Piece> local;
     local.push_back({lo, hi, prev.meets, bounds[i], bounds[i + 1]});
-    double step = std::min(0.05, x_stop - x), slope = 0.0;
+    double step = std::min(0.05, x_stop - x);
     // Early exit: when the verdict does not depend on which pole dominates (pole_verdict.h),
     // it holds over the whole interval.
     if (prev.uniform) x = x_stop;
@@ -101,31 +173,26 @@ LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
       double x1 = std::min(x + step, x_stop);
       PoleVerdict cur = judge(std::exp(x1));
       if (cur.meets != prev.meets) {
-        double sw = LocateSwitch(judge, std::exp(x), std::exp(x1), prev.meets);
-        BandEdge e = EdgeAt(judge, sw, Boundary::kDominanceSwitch, nan_pole);
+        double sw = LocateSwitch(judge, std::exp(x), std::exp(x1), prev, cur);
+        BandEdge e{sw, Boundary::kDominanceSwitch, nan_pole, judge(sw).dominant};
         local.back().hi = sw;
         local.back().hi_edge = e;
         local.push_back({sw, hi, cur.meets, e, bounds[i + 1]});
       }
-      const bool opening = std::isfinite(cur.gap) && std::isfinite(prev.gap) &&
-                           cur.gap > prev.gap && cur.meets == prev.meets;
-      if (std::isfinite(cur.gap) && std::isfinite(prev.gap)) {
-        slope = std::abs(cur.gap - prev.gap) / (x1 - x);
-      } else {
-        slope = 0.0;
-      }
-      double scale = std::max(1e-12, std::abs(cur.dominant.real()));
-      if (opening) {
-        // The gap grows: its secant predicts no closing, so the step may double (a later
-        // closing is again seen by the secant rule below before the cap of 0.7).
-        step = std::min(0.7, std::max(2.0 * step, cur.gap / (3.0 * slope)));
+      const double d_prev = std::abs(prev.lead), d_cur = std::abs(cur.lead);
+      const bool finite = std::isfinite(d_cur) && std::isfinite(d_prev);
+      const double slope = finite ? std::abs(d_cur - d_prev) / (x1 - x) : 0.0;
+      if (finite && d_cur > d_prev && cur.meets == prev.meets) {
+        // Moving away from a switch: its secant predicts none, so the step may double (a later
+        // approach is again seen by the secant rule below before the cap of 0.7).
+        step = std::min(0.7, std::max(2.0 * step, d_cur / (3.0 * slope)));
       } else {
         step = 0.7;
-        if (std::isfinite(cur.gap) && slope > 0.0) {
-          step = std::clamp(cur.gap / (3.0 * slope), 1e-5, 0.7);
-        }
+        if (std::isfinite(d_cur) && slope > 0.0)
+          step = std::clamp(d_cur / (3.0 * slope), 1e-5, 0.7);
       }
-      if (std::isfinite(cur.gap) && cur.gap < 1e-9 * scale) step = 1e-5;
+      const double scale = std::max(1e-12, std::abs(cur.dominant.real()));
+      if (std::isfinite(d_cur) && d_cur < 1e-9 * scale) step = 1e-5;
       x = x1;
       prev = cur;
     }

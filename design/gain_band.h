@@ -4,18 +4,21 @@
 // Method (no sweep over K):
 //  1. every gain where some closed-loop pole lies on a region boundary, from
 //     boundary_crossings.h (exact roots of one real polynomial per boundary curve);
-//  2. between two consecutive such gains no pole crosses a boundary, so each pole's membership
-//     of the region is fixed; the verdict can still change where the dominant pole changes
-//     identity (two poles with equal real parts, e.g. a slow real pole overtaken by a pair).
-//     Each interval is therefore marched through in log K: after each judged gain the next
-//     step is a third of what the secant of the gap (pole_verdict.h: the dominant pole's real
-//     part minus the next pole's) predicts it needs to close, at most a factor 2 in K and at
-//     least 1e-5 in log K, so two poles cannot trade the dominant role and trade it back between
-//     two judged gains unless the gap closes faster than its secant says; while the gap grows
-//     the step doubles instead (up to the same cap). Where the verdict changes, bisection in
-//     log K to 1e-10 relative makes a "dominance switch" edge. An interval whose verdict does
-//     not depend on which pole dominates (PoleVerdict::uniform: a pole is unstable, or all
-//     poles sit on the same side of the region) is judged once, not marched.
+//  2. between two consecutive such gains no pole crosses a boundary, so each pole keeps whether
+//     it would pass as the dominant one, and the verdict can change only where the dominant
+//     role passes between a passing and a failing pole (two poles with equal real parts, e.g.
+//     a slow real pole overtaken by a pair). PoleVerdict::lead (pole_verdict.h) measures that:
+//     the passing poles' largest real part minus the failing ones', continuous in K there, a
+//     dominance switch being a zero of it. Each interval is marched through in log K: after
+//     each judged gain the next step is a third of what the secant of |lead| predicts it needs
+//     to reach zero, at most a factor 2 in K and at least 1e-5 in log K (while |lead| grows the
+//     step doubles instead, up to the same cap), so the lead cannot reach zero and come back
+//     between two judged gains unless it moves faster than its secant says. Where the verdict
+//     changes, Brent's method on the lead (signed by the verdict) finds the switch to 1e-10
+//     relative in K: a "dominance switch" edge. An interval whose verdict does not depend on
+//     which pole dominates (PoleVerdict::uniform: a pole is unstable, or no pole or every pole
+//     passes) is judged once, not marched. FindLocusBand follows the closed-loop poles from one
+//     judged gain to the next (lti/root_tracker.h) instead of solving for them afresh.
 //  3. consecutive meeting intervals are merged into the band: a union of ranges [lo, hi], each
 //     edge with its gain, the boundary that made it, the pole on that boundary and the dominant
 //     pole there.

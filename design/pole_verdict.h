@@ -24,13 +24,19 @@ struct PoleVerdict {
   Failure failure = Failure::kNone;
   std::complex<double> dominant;  // the dominant pole, Im >= 0 (NaN when there are no poles)
   PoleShape shape;                // of the dominant pole
-  // Re(dominant) - Re(the next pole that is not the dominant one or its conjugate), >= 0: how
-  // far the dominant role is from changing hands; +inf with a single real pole or pair.
-  double gap = 0.0;
+  // How far the verdict is from changing hands with the dominant role. Call a pole "passing"
+  // when the loop would meet the region if it were the dominant one: it lies inside the
+  // dominant-pole bounds and every pole but it and its conjugate has -Re(s) >= decay_min. Then
+  //   lead = max Re over the passing poles - max Re over the others
+  // (+inf when every pole passes, -inf when none does), and for a stable loop meets == (lead > 0)
+  // (lead == 0 is a tie, decided as the dominant pole is). Between two boundary crossings each
+  // pole keeps its side of every boundary, hence whether it passes, so lead is continuous in the
+  // gain there and a dominance switch that changes the verdict is a zero of it (gain_band.h).
+  double lead = 0.0;
   // True when the verdict does not depend on which pole is dominant: some pole is unstable, or
-  // no pole would pass the dominant-pole bounds, or every pole would (and every pole meets
-  // decay_min). Between two boundary crossings each pole keeps its side of every boundary, so
-  // then the verdict holds until the next crossing and no dominance switch can change it.
+  // no pole passes, or every pole does (lead is infinite). Between two boundary crossings each
+  // pole keeps whether it passes, so then the verdict holds until the next crossing and no
+  // dominance switch can change it.
   bool uniform = false;
 };
 
