@@ -74,6 +74,9 @@ Curve MakeCurve(Boundary boundary, double value, double w) {
   }
 }
 
+std::vector<BoundaryCrossing> CrossingsScaled(const LoopPolynomials& loop, Boundary boundary,
+                                              double value, double w);
+
 }  // namespace
 
 const char* BoundaryName(Boundary b) {
@@ -130,8 +133,15 @@ const char* BoundaryKey(Boundary b) {
 
 std::vector<BoundaryCrossing> CrossingsOf(const LoopPolynomials& loop, Boundary boundary,
                                           double value) {
+  return CrossingsScaled(loop, boundary, value, loop.FrequencyScale());
+}
+
+namespace {
+
+// CrossingsOf with the loop's frequency scale w given (computed once for all boundaries).
+std::vector<BoundaryCrossing> CrossingsScaled(const LoopPolynomials& loop, Boundary boundary,
+                                              double value, double w) {
   std::vector<BoundaryCrossing> out;
-  const double w = loop.FrequencyScale();
   const Curve curve = MakeCurve(boundary, value, w);
   const int n = std::max(loop.a.degree(), loop.b.degree());
   std::vector<CPoly> u_pow{{Complex(1.0, 0.0)}}, v_pow{{Complex(1.0, 0.0)}};
@@ -155,11 +165,34 @@ std::vector<BoundaryCrossing> CrossingsOf(const LoopPolynomials& loop, Boundary 
     if (std::abs(c) < 1e-14 * scale) c = 0.0;  // cancellation noise
     c /= scale;
   }
+  // On a vertical line s = w (-x + j q), ca(q) = A(j q) and cb(q) = B(j q) for the real
+  // polynomials A(z) = a(w (z - x)), B(z) = b(w (z - x)), so the coefficient of q^k in F is a
+  // sum of A_i B_l Im(j^(i - l)) with i + l = k: zero for every even k. F = q G(q^2), and the
+  // roots come from G, of half the degree (an eigenvalue problem an eighth the size): q = 0 and
+  // q = sqrt(u) for each root u of G.
+  const bool vertical = boundary == Boundary::kImaginaryAxis || boundary == Boundary::kSigmaLine ||
+                        boundary == Boundary::kDecayLine;
+  if (vertical) {
+    for (size_t k = 0; k < f.size(); k += 2) f[k] = 0.0;
+  }
   std::vector<double> descending(f.rbegin(), f.rend());
   Polynomial fp(descending);
   if (fp.degree() < 1) return out;
   const Polynomial dfp = fp.derivative();
-  for (const Complex& r : fp.roots()) {
+  std::vector<Complex> candidates;
+  if (vertical) {
+    std::vector<double> g;  // descending powers of u = q^2
+    for (size_t k = f.size(); k-- > 0;) {
+      if (k % 2 == 1) g.push_back(f[k]);
+    }
+    candidates.emplace_back(0.0, 0.0);
+    for (const Complex& u : Polynomial(g).roots()) {
+      if (u != Complex(0.0, 0.0)) candidates.push_back(std::sqrt(u));
+    }
+  } else {
+    candidates = fp.roots();
+  }
+  for (const Complex& r : candidates) {
     if (std::abs(r.imag()) > 1e-6 * (1.0 + std::abs(r.real()))) continue;
     double q = r.real();
     for (int it = 0; it < 4; ++it) {  // Newton polish, kept only while it helps
@@ -185,11 +218,14 @@ std::vector<BoundaryCrossing> CrossingsOf(const LoopPolynomials& loop, Boundary 
   return out;
 }
 
+}  // namespace
+
 std::vector<BoundaryCrossing> AllCrossings(const LoopPolynomials& loop, const Region& region) {
-  std::vector<BoundaryCrossing> out = CrossingsOf(loop, Boundary::kImaginaryAxis, 0.0);
+  const double w = loop.FrequencyScale();
+  std::vector<BoundaryCrossing> out = CrossingsScaled(loop, Boundary::kImaginaryAxis, 0.0, w);
   auto add = [&](Boundary b, double v) {
     if (v <= 0.0) return;
-    auto c = CrossingsOf(loop, b, v);
+    auto c = CrossingsScaled(loop, b, v, w);
     out.insert(out.end(), c.begin(), c.end());
   };
   add(Boundary::kWnCircle, region.wn_min);

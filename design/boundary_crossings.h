@@ -12,11 +12,13 @@
 // (only Im s >= 0: poles come in conjugate pairs). A point s is a closed-loop pole for
 // K = -a(s)/b(s), and that K is real exactly when Im(a(s) conj(b(s))) = 0. Multiplying a and b by
 // V(q)^n (n = degree of a) turns this into a real polynomial F(q) of degree <= 2n; ALL its roots
-// come from the eigenvalues of its companion matrix (Polynomial::roots), the real ones in the
-// curve's range are kept (|Im q| <= 1e-6 (1 + |q|), then Newton-polished on F), and K = -a/b is
-// evaluated there; K > 0 and finite is a crossing. s is scaled by the loop's frequency scale first
-// so the coefficients stay of similar size. A tangency (a double root of F) is kept too: it is a
-// candidate gain that changes no classification.
+// come from the eigenvalues of its companion matrix (Polynomial::roots; on the vertical lines,
+// the imaginary axis and the sigma and decay lines, F is odd in q, F = q G(q^2), and they come
+// from G's companion, of half the size), the real ones in the curve's range are kept
+// (|Im q| <= 1e-6 (1 + |q|), then Newton-polished on F), and K = -a/b is evaluated there; K > 0 and
+// finite is a crossing. s is scaled by the loop's frequency scale first so the coefficients stay of
+// similar size. A tangency (a double root of F) is kept too: it is a candidate gain that changes no
+// classification.
 //
 // Also reported: the gain where lead(a) + K lead(b) = 0 (a pole leaves through infinity), which
 // only happens for a biproper loop whose leading coefficients have opposite signs.
