@@ -184,6 +184,29 @@ DelayedLoop::Cubic DelayedLoop::Fit(const std::array<double, 4>& nodes, double l
   return coef;
 }
 
+bool DelayedLoop::SteadyHistory(double t, double h, size_t count,
+                                std::vector<std::array<double, 4>>& out) const {
+  if (count == 0 || pieces_.size() < count) return false;
+  const double tol = 1e-9 * h;
+  out.resize(count);
+  double end = t;
+  for (size_t i = 0; i < count; ++i) {
+    const Piece& p = pieces_[pieces_.size() - 1 - i];
+    const double len = p.end - p.start;
+    if (std::abs(p.end - end) > tol || std::abs(len - h) > tol ||
+        p.generation + 1 < max_generation_) {
+      return false;
+    }
+    double scale = 1.0;
+    for (int k = 0; k <= kDegree; ++k) {
+      out[count - 1 - i][static_cast<size_t>(k)] = p.coef[static_cast<size_t>(k)] * scale;
+      scale *= len;
+    }
+    end = p.start;
+  }
+  return true;
+}
+
 void DelayedLoop::Append(double a, double b, const std::array<double, 4>& nodes, int generation) {
   pieces_.push_back({a, b, Fit(nodes, b - a), generation});
   if (cursor_ > 4096) {  // drop the history the delay can no longer reach

@@ -56,6 +56,12 @@ class DelayedLoop {
 
   static constexpr int kSmooth = 1 << 20;
 
+  // The last `count` stored pieces, oldest first, as cubics in sigma = (t - start) / h (the form
+  // steady_delayed_loop.h takes), when they are contiguous steps of length h (to 1e-9 h) ending
+  // at t, none of them non-smooth enough to split a later step; false otherwise.
+  bool SteadyHistory(double t, double h, size_t count,
+                     std::vector<std::array<double, 4>>& out) const;
+
  private:
   static constexpr int kDegree = 3;
   using Cubic = std::array<double, kDegree + 1>;  // coefficients in (t - start)^k

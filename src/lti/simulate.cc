@@ -27,10 +27,17 @@
 // echoes T, 2T later) comes back through the delay, so no cubic straddles a kink. The only
 // approximation is the cubic interpolation of u within smooth stretches (local error O(h_i^4));
 // r is held, and every internal step boundary falls on the sample times where r switches.
+// On a uniform grid with steps no longer than T, once r has switched for the last time and the
+// echoes of that switch have passed (every stored piece the delay can reach is smooth and one
+// step long), every step is the same linear map of the state and two stored cubics: that map is
+// composed once and run as a recursion (steady_delayed_loop.h), the same arithmetic to rounding.
 #include "lti/simulate.h"
 
+#include <algorithm>
+#include <array>
 #include <cmath>
 #include <limits>
+#include <optional>
 #include <string>
 
 #include <Eigen/Dense>
@@ -38,6 +45,7 @@
 #include "lti/delayed_loop.h"
 #include "lti/error.h"
 #include "lti/state_space.h"
+#include "lti/steady_delayed_loop.h"
 #include "lti/zoh.h"
 
 namespace lw {
@@ -286,10 +294,34 @@ ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Contr
                      "shorten the record or simulate the delay-free loop");
   }
 
-  DelayedLoop loop(m, delay, u_before, t[0], max_step, m.dy != 0.0 ? 8 : 3);
+  const int max_generation = m.dy != 0.0 ? 8 : 3;
+  DelayedLoop loop(m, delay, u_before, t[0], max_step, max_generation);
   VectorXd z = z0;
   const size_t n = t.size();
+  // On a uniform grid, once r stays put and the echoes of its last switch have passed, every
+  // internal step is alike: hand over to the precomputed step map (steady_delayed_loop.h).
+  size_t last_switch = 0;
+  for (size_t k = 1; k < n; ++k) {
+    if (r[k] != r[k - 1]) last_switch = k;
+  }
+  const long per_sample =
+      period > 0.0 ? std::max(1L, static_cast<long>(std::ceil(period / max_step - 1e-9))) : 0;
+  const double steady_step = period > 0.0 ? period / static_cast<double>(per_sample) : 0.0;
+  const double steady_from = t[last_switch] + (max_generation + 1) * delay + 3.0 * steady_step;
+  int steady_tries = period > 0.0 && steady_step <= delay * (1.0 + 1e-9) ? 4 : 0;
+  std::optional<SteadyDelayedLoop> steady;
+  std::vector<std::array<double, 4>> history;
   for (size_t k = 0; k < n; ++k) {
+    if (steady_tries > 0 && k >= last_switch && t[k] >= steady_from) {
+      --steady_tries;
+      if (!steady) steady.emplace(m, delay, steady_step);
+      if (!steady->usable()) {
+        steady_tries = 0;
+      } else if (loop.SteadyHistory(t[k], steady_step, steady->history(), history)) {
+        steady->Run(z, history, r[k], per_sample, n - k, &out.y[k], &out.u[k]);
+        return out;
+      }
+    }
     const double tol = 1e-10 * (k + 1 < n ? t[k + 1] - t[k] : 1.0);
     double w = loop.WRight(t[k], tol);
     out.y[k] = loop.Y(z, w);

@@ -4,8 +4,8 @@
 //   - a non-uniform grid reproduces the uniform result at the shared times;
 //   - the closed loop with T = 0 equals the rational closed loop N/(D+N) simulated open loop;
 //   - with dead time: the method of steps for a first-order P loop over two delay intervals
-//     (Bellman & Cooke, Differential-Difference Equations, from memory), a Padé [8/8] closed
-//     loop, and the type-0 steady state K G(0) / (1 + K G(0)).
+//     and its series over fifty (Bellman & Cooke, Differential-Difference Equations, from
+//     memory), a Padé [8/8] closed loop, and the type-0 steady state K G(0) / (1 + K G(0)).
 #include <algorithm>
 #include <cmath>
 #include <random>
@@ -213,6 +213,53 @@ TEST_CASE("Closed loop with dead time: method of steps for a first-order P loop"
   }
   MESSAGE("method-of-steps max error " << worst);
   CHECK(worst <= 1e-7 * g);
+}
+
+TEST_CASE("Closed loop with dead time: the delay series of a first-order P loop, many delays") {
+  // Plant K/(tau s + 1) e^{-T s} under u = Kp (r - y), r = 1 from t = 0, zero state: with
+  // g = K Kp, Y = sum_{n >= 1} (-1)^{n+1} (g / (tau s + 1))^n e^{-n T s} / s, so
+  //   y(t) = sum_{n <= t/T} (-1)^{n+1} g^n P(n, (t - n T) / tau),
+  //   P(n, x) = 1 - e^{-x} sum_{j < n} x^j / j!   (the Erlang distribution function),
+  // the method of steps written out over every delay interval (Bellman & Cooke,
+  // Differential-Difference Equations, from memory). Over 50 delays most of the record runs on
+  // the steady step map (steady_delayed_loop.h); the grids give a split step (T / h
+  // fractional), a whole number of steps per delay, and three internal steps per sample.
+  const double k = 0.8, tau = 1.3, kp = 1.1, g = k * kp;
+  struct Case {
+    double delay, period;
+    int samples;
+  };
+  for (const Case c : {Case{0.55, 0.01, 3001}, Case{0.5, 0.01, 3001}, Case{0.55, 0.2, 151}}) {
+    const lw::TransferFunction plant({k}, {tau, 1.0}, c.delay);
+    const std::vector<double> t = Grid(c.period, c.samples);
+    const std::vector<double> r(t.size(), 1.0);
+    lw::SimulateOptions zero;
+    zero.initial = lw::SimulateOptions::Initial::kZero;
+    const lw::ClosedLoopResponse cl =
+        lw::SimulateClosedLoop(plant, lw::Controller(), kp, t, r, zero);
+    double worst = 0.0;
+    for (size_t i = 0; i < t.size(); ++i) {
+      double want = 0.0, gn = 1.0, sign = 1.0;
+      for (int n = 1; n * c.delay < t[i]; ++n) {
+        gn *= g;
+        const double x = (t[i] - n * c.delay) / tau;
+        double term = std::exp(-x), head = 0.0;
+        for (int j = 0; j < n; ++j) {
+          head += term;
+          term *= x / (j + 1);
+        }
+        want += sign * gn * (1.0 - head);
+        sign = -sign;
+      }
+      worst = std::max(worst, std::abs(cl.y[i] - want));
+      CHECK(cl.u[i] == doctest::Approx(kp * (r[i] - cl.y[i])).epsilon(1e-12));
+    }
+    CAPTURE(c.delay);
+    CAPTURE(c.period);
+    MESSAGE("delay-series max error " << worst);
+    CHECK(worst <= 1e-7 * g);
+    CHECK(cl.y.back() == doctest::Approx(g / (1.0 + g)).epsilon(1e-6));
+  }
 }
 
 TEST_CASE("Closed loop with dead time vs Padé closed loops and the type-0 steady state") {
