@@ -2,7 +2,9 @@
 
 #include <algorithm>
 #include <cmath>
+#include <functional>
 #include <limits>
+#include <string>
 #include <thread>
 
 #include "design/boundary_crossings.h"
@@ -15,49 +17,19 @@ namespace {
 
 constexpr double kInf = std::numeric_limits<double>::infinity();
 
-struct Judge {
-  const TransferFunction& plant;
-  const Controller& controller;
-  const Specs& specs;
-  const ResponseBandOptions& options;
-  LoopPolynomials loop;
-  int simulations = 0;
-  ResponseCheck operator()(double k) {
-    ResponseCheck c = CheckResponse(plant, controller, k, specs, options);
-    ++simulations;
-    return c;
-  }
+// What the closed-loop poles alone say about a gain (CheckResponse's first step): "unstable",
+// "too slow" (see CheckResponse) or nothing, with the record length to simulate.
+struct PoleScreen {
+  std::string failed;
+  double duration = 0.0;
 };
 
-}  // namespace
-
-void ResponseBandOptions::Validate() const {
-  if (samples < 100) {
-    throw UsageError("response band samples = " + std::to_string(samples) + ": it must be >= 100");
-  }
-  if (grid < 8) {
-    throw UsageError("response band grid = " + std::to_string(grid) + ": it must be >= 8");
-  }
-  if (!(rel_tol > 0.0 && rel_tol < 0.1)) {
-    throw UsageError("response band rel_tol = " + std::to_string(rel_tol) +
-                     ": it must satisfy 0 < rel_tol < 0.1");
-  }
-  if (pade_order < 1 || pade_order > 8) {
-    throw UsageError("response band pade_order = " + std::to_string(pade_order) +
-                     ": it must be an integer from 1 to 8");
-  }
+bool FailsByPoles(const std::string& failed) {
+  return failed == "unstable" || failed == "too slow";
 }
 
-GainSet ResponseBand::gains() const {
-  GainSet g;
-  for (const auto& r : ranges) g.push_back({r.lo.gain, r.hi.gain});
-  return g;
-}
-
-ResponseCheck CheckResponse(const TransferFunction& plant, const Controller& controller,
-                            double gain, const Specs& specs, const ResponseBandOptions& options) {
-  ResponseCheck check;
-  LoopPolynomials loop = LoopPolynomials::ForGain(plant, controller, options.pade_order);
+PoleScreen ScreenPoles(const LoopPolynomials& loop, double delay, double gain, const Specs& specs) {
+  PoleScreen screen;
   double slowest = kInf;
   double fastest = 0.0;
   for (const auto& p : loop.PolesAt(gain)) {
@@ -65,10 +37,10 @@ ResponseCheck CheckResponse(const TransferFunction& plant, const Controller& con
     fastest = std::max(fastest, std::abs(p));
   }
   if (!(slowest > 0.0)) {
-    check.failed = "unstable";
-    return check;
+    screen.failed = "unstable";
+    return screen;
   }
-  double duration = 12.0 / slowest + 2.0 * plant.delay();
+  double duration = 12.0 / slowest + 2.0 * delay;
   if (specs.settle_max) duration = std::max(duration, 2.0 * *specs.settle_max);
   if (specs.peak_max) duration = std::max(duration, 3.0 * *specs.peak_max);
   if (specs.rise_max) duration = std::max(duration, 3.0 * *specs.rise_max);
@@ -78,9 +50,18 @@ ResponseCheck CheckResponse(const TransferFunction& plant, const Controller& con
   // spec is met (it creeps to its final value); such gains are judged too slow, not simulated.
   constexpr double kMaxModeSpread = 2e5;
   if (10.0 * duration * fastest > kMaxModeSpread) {
-    check.failed = "too slow";
-    return check;
+    screen.failed = "too slow";
+    return screen;
   }
+  screen.duration = duration;
+  return screen;
+}
+
+// Simulates the unit step over `duration` seconds and judges it against the specs.
+ResponseCheck SimulateAndJudge(const TransferFunction& plant, const Controller& controller,
+                               double gain, const Specs& specs, const ResponseBandOptions& options,
+                               double duration) {
+  ResponseCheck check;
   check.duration = duration;
   const int n = options.samples;
   std::vector<double> t(static_cast<size_t>(n)), r(static_cast<size_t>(n), 1.0);
@@ -127,17 +108,131 @@ ResponseCheck CheckResponse(const TransferFunction& plant, const Controller& con
   return check;
 }
 
+// Judges gains for one search task, counting the steps it simulates.
+struct Judge {
+  const TransferFunction& plant;
+  const Controller& controller;
+  const Specs& specs;
+  const ResponseBandOptions& options;
+  const LoopPolynomials& loop;
+  int simulations = 0;
+
+  PoleScreen Screen(double k) const { return ScreenPoles(loop, plant.delay(), k, specs); }
+  ResponseCheck operator()(double k) {
+    const PoleScreen screen = Screen(k);
+    if (!screen.failed.empty()) {
+      ResponseCheck c;
+      c.failed = screen.failed;
+      return c;
+    }
+    ++simulations;
+    return SimulateAndJudge(plant, controller, k, specs, options, screen.duration);
+  }
+
+  // The edge between `in` (meets) and `out` (fails with `fail_out`), by bisection in log K until
+  // hi/lo - 1 <= rel_tol; the edge is the geometric middle of the last bracket, and `limiting`
+  // what fails at its outer end. When `out` fails by its poles alone, the bisection first runs
+  // on the pole screen (no simulation) and then simulates only the inner end it arrives at: the
+  // same edge as simulating every middle that passes the screen whenever those all meet (the
+  // monotone bracket bisection assumes anyway); if that inner end fails (another requirement
+  // breaks first), the bisection starts again from [in, out] with simulations, as it would
+  // without the screen.
+  ResponseEdge Refine(double in, double out, std::string fail_out) {
+    const auto open = [&](double a, double b) {
+      return std::max(a, b) / std::min(a, b) - 1.0 > options.rel_tol;
+    };
+    if (FailsByPoles(fail_out)) {
+      double inner = in, outer = out;
+      std::string fail_outer = fail_out;
+      while (open(inner, outer)) {
+        const double m = std::sqrt(inner * outer);
+        const PoleScreen s = Screen(m);
+        if (s.failed.empty()) {
+          inner = m;
+        } else {
+          outer = m;
+          fail_outer = s.failed;
+        }
+      }
+      if (inner == in || (*this)(inner).meets) {
+        return ResponseEdge{std::sqrt(inner * outer), fail_outer};
+      }
+    }
+    while (open(in, out)) {
+      const double m = std::sqrt(in * out);
+      const ResponseCheck c = (*this)(m);
+      if (c.meets) {
+        in = m;
+      } else {
+        out = m;
+        fail_out = c.failed;
+      }
+    }
+    return ResponseEdge{std::sqrt(in * out), fail_out};
+  }
+
+  // An open end of the grid that meets: extends by `factor` (0.1 down, 10 up) up to 6 times
+  // while it still meets, then refines that edge, or reports the end open (0 or inf).
+  ResponseEdge Extend(double k, double factor) {
+    for (int i = 0; i < 6; ++i) {
+      const double next = k * factor;
+      const ResponseCheck c = (*this)(next);
+      if (!c.meets) return Refine(k, next, c.failed);
+      k = next;
+    }
+    return ResponseEdge{factor < 1.0 ? 0.0 : kInf, ""};
+  }
+};
+
+// One edge to find: refine between a meeting and a failing grid gain, or extend an open end.
+struct EdgeTask {
+  double in = 0.0, out = 0.0;  // out unused when extending
+  std::string fail_out;
+  double extend = 0.0;  // 0: refine; else the factor to extend by
+};
+
+}  // namespace
+
+void ResponseBandOptions::Validate() const {
+  if (samples < 100) {
+    throw UsageError("response band samples = " + std::to_string(samples) + ": it must be >= 100");
+  }
+  if (grid < 8) {
+    throw UsageError("response band grid = " + std::to_string(grid) + ": it must be >= 8");
+  }
+  if (!(rel_tol > 0.0 && rel_tol < 0.1)) {
+    throw UsageError("response band rel_tol = " + std::to_string(rel_tol) +
+                     ": it must satisfy 0 < rel_tol < 0.1");
+  }
+  if (pade_order < 1 || pade_order > 8) {
+    throw UsageError("response band pade_order = " + std::to_string(pade_order) +
+                     ": it must be an integer from 1 to 8");
+  }
+}
+
+GainSet ResponseBand::gains() const {
+  GainSet g;
+  for (const auto& r : ranges) g.push_back({r.lo.gain, r.hi.gain});
+  return g;
+}
+
+ResponseCheck CheckResponse(const TransferFunction& plant, const Controller& controller,
+                            double gain, const Specs& specs, const ResponseBandOptions& options) {
+  const LoopPolynomials loop = LoopPolynomials::ForGain(plant, controller, options.pade_order);
+  Judge judge{plant, controller, specs, options, loop};
+  return judge(gain);
+}
+
 ResponseBand FindResponseBand(const TransferFunction& plant, const Controller& controller,
                               const Specs& specs, const ResponseBandOptions& options) {
   options.Validate();
   specs.Validate();
-  Judge judge{plant, controller, specs, options,
-              LoopPolynomials::ForGain(plant, controller, options.pade_order)};
-  std::vector<BoundaryCrossing> cross = AllCrossings(judge.loop, specs.ToRegion());
+  const LoopPolynomials loop = LoopPolynomials::ForGain(plant, controller, options.pade_order);
+  std::vector<BoundaryCrossing> cross = AllCrossings(loop, specs.ToRegion());
   double lo, hi;
   if (cross.empty()) {
-    std::complex<double> s(0.0, judge.loop.FrequencyScale());
-    double ref = std::abs(judge.loop.a(s)) / std::max(std::abs(judge.loop.b(s)), 1e-300);
+    std::complex<double> s(0.0, loop.FrequencyScale());
+    double ref = std::abs(loop.a(s)) / std::max(std::abs(loop.b(s)), 1e-300);
     lo = ref * 1e-3;
     hi = ref * 1e3;
   } else {
@@ -151,60 +246,46 @@ ResponseBand FindResponseBand(const TransferFunction& plant, const Controller& c
   for (int i = 0; i < n; ++i) {
     g[static_cast<size_t>(i)] = lo * std::pow(hi / lo, static_cast<double>(i) / (n - 1));
   }
-  // The grid's simulations are independent: two threads share them (same results either way).
-  auto scan = [&](size_t first) {
-    for (size_t i = first; i < g.size(); i += 2)
-      v[i] = CheckResponse(plant, controller, g[i], specs, options);
+  // The grid's gains, then the edges, are independent: two threads share each list (the same
+  // results either way, each task being a pure function of its inputs).
+  std::vector<Judge> judges(2, Judge{plant, controller, specs, options, loop});
+  const auto on_two_threads = [&](size_t count, const std::function<void(Judge&, size_t)>& job) {
+    auto work = [&](size_t first) {
+      for (size_t i = first; i < count; i += 2) job(judges[first], i);
+    };
+    std::thread other(work, 1);
+    work(0);
+    other.join();
   };
-  std::thread other(scan, 1);
-  scan(0);
-  other.join();
-  judge.simulations += n;
-  // Refines an edge between a (verdict va) and b (the other verdict); returns the edge with
-  // what fails on its failing side.
-  auto refine = [&](double a, double b, bool va, std::string fail_a, std::string fail_b) {
-    while (std::max(a, b) / std::min(a, b) - 1.0 > options.rel_tol) {
-      double m = std::sqrt(a * b);
-      ResponseCheck c = judge(m);
-      if (c.meets == va) {
-        a = m;
-        if (!va) fail_a = c.failed;
-      } else {
-        b = m;
-        if (va) fail_b = c.failed;
-      }
-    }
-    return ResponseEdge{std::sqrt(a * b), va ? fail_b : fail_a};
-  };
-  // Open ends: extend by decades while the end of the grid still meets.
-  auto extend = [&](double k, double factor) {
-    for (int i = 0; i < 6; ++i) {
-      double next = k * factor;
-      ResponseCheck c = judge(next);
-      if (!c.meets) return refine(k, next, true, "", c.failed);
-      k = next;
-    }
-    return ResponseEdge{factor < 1.0 ? 0.0 : kInf, ""};
-  };
-  ResponseBand band;
+  on_two_threads(g.size(), [&](Judge& judge, size_t i) { v[i] = judge(g[i]); });
+  // Each range's start and end edge.
+  std::vector<EdgeTask> tasks;
   bool open = false;
-  ResponseEdge start;
   for (int i = 0; i < n; ++i) {
     const auto& c = v[static_cast<size_t>(i)];
     if (c.meets && !open) {
-      start = i == 0 ? extend(g[0], 0.1)
-                     : refine(g[static_cast<size_t>(i)], g[static_cast<size_t>(i - 1)], true, "",
-                              v[static_cast<size_t>(i - 1)].failed);
+      if (i == 0) {
+        tasks.push_back({g[0], 0.0, "", 0.1});
+      } else {
+        tasks.push_back({g[static_cast<size_t>(i)], g[static_cast<size_t>(i - 1)],
+                         v[static_cast<size_t>(i - 1)].failed, 0.0});
+      }
       open = true;
     } else if (!c.meets && open) {
-      ResponseEdge end =
-          refine(g[static_cast<size_t>(i - 1)], g[static_cast<size_t>(i)], true, "", c.failed);
-      band.ranges.push_back({start, end});
+      tasks.push_back({g[static_cast<size_t>(i - 1)], g[static_cast<size_t>(i)], c.failed, 0.0});
       open = false;
     }
   }
-  if (open) band.ranges.push_back({start, extend(g.back(), 10.0)});
-  band.simulations = judge.simulations;
+  if (open) tasks.push_back({g.back(), 0.0, "", 10.0});
+  std::vector<ResponseEdge> edges(tasks.size());
+  on_two_threads(tasks.size(), [&](Judge& judge, size_t i) {
+    const EdgeTask& t = tasks[i];
+    edges[i] =
+        t.extend != 0.0 ? judge.Extend(t.in, t.extend) : judge.Refine(t.in, t.out, t.fail_out);
+  });
+  ResponseBand band;
+  for (size_t i = 0; i + 1 < edges.size(); i += 2) band.ranges.push_back({edges[i], edges[i + 1]});
+  band.simulations = judges[0].simulations + judges[1].simulations;
   return band;
 }
 

@@ -19,11 +19,14 @@
 // has a pole with Re >= 0 is judged unstable without simulating.
 //
 // Search: `grid` log-spaced gains from a tenth of the smallest to 1.05 times the largest gain at
-// which a pole of the Padé loop crosses a region boundary (boundary_crossings.h; simulated on two
-// threads); neighbours with
-// different verdicts bracket an edge, refined by bisection in log K until hi/lo - 1 <= rel_tol.
-// When an end of the grid meets the specs the search extends by decades (up to 6) to find that
-// edge or reports it open (0 or inf). Two edges between neighbouring grid gains are missed.
+// which a pole of the Padé loop crosses a region boundary (boundary_crossings.h); neighbours
+// with different verdicts bracket an edge, refined by bisection in log K until
+// hi/lo - 1 <= rel_tol. When an end of the grid meets the specs the search extends by decades
+// (up to 6) to find that edge or reports it open (0 or inf). Two edges between neighbouring grid
+// gains are missed. Gains judged "unstable" or "too slow" from their poles are not simulated;
+// an edge whose outer end fails that way is bisected on the poles alone and only its inner end
+// is simulated (when that end fails after all, the bisection is redone with simulations). The
+// grid's gains, then the edges, are shared by two threads; the result does not depend on it.
 #ifndef LOOPWRIGHT_DESIGN_RESPONSE_BAND_H_
 #define LOOPWRIGHT_DESIGN_RESPONSE_BAND_H_
 
@@ -71,7 +74,7 @@ struct ResponseBand {
   std::vector<ResponseRange> ranges;
   GainSet gains() const;
   bool empty() const { return ranges.empty(); }
-  int simulations = 0;  // how many steps were simulated
+  int simulations = 0;  // how many steps were simulated (gains screened out by poles not counted)
 };
 
 ResponseBand FindResponseBand(const TransferFunction& plant, const Controller& controller,
