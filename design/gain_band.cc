@@ -107,6 +107,17 @@ GainSet LocusBand::gains() const {
   return g;
 }
 
+namespace {
+
+// BandFromCrossings; with `axis_complete` (the crossings hold every gain where a pole is on
+// the imaginary axis or at infinity, as AllCrossings' exact roots do), an interval that follows
+// an unstable one across any other cut is unstable too, and is not judged.
+LocusBand Band(std::vector<BoundaryCrossing> crossings,
+               const std::function<PoleVerdict(double)>& judge, double ref, const Region& region,
+               int pade_order, bool axis_complete);
+
+}  // namespace
+
 LocusBand FindLocusBand(const LoopPolynomials& loop, const Region& region) {
   std::vector<BoundaryCrossing> crossings = AllCrossings(loop, region);
   double ref = 1.0;  // only used without crossings
@@ -117,14 +128,22 @@ LocusBand FindLocusBand(const LoopPolynomials& loop, const Region& region) {
   // The march judges gains in increasing order, mostly close together: the closed-loop poles
   // are followed along K (lti/root_tracker.h) instead of solved afresh at each gain.
   RootTracker tracker(loop.a, loop.b);
-  return BandFromCrossings(
+  return Band(
       std::move(crossings), [&](double k) { return JudgePoles(tracker.RootsAt(k), region); }, ref,
-      region, loop.pade_order);
+      region, loop.pade_order, true);
 }
 
 LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
                             const std::function<PoleVerdict(double)>& judge, double ref,
                             const Region& region, int pade_order) {
+  return Band(std::move(crossings), judge, ref, region, pade_order, false);
+}
+
+namespace {
+
+LocusBand Band(std::vector<BoundaryCrossing> crossings,
+               const std::function<PoleVerdict(double)>& judge, double ref, const Region& region,
+               int pade_order, bool axis_complete) {
   LocusBand band;
   band.region = region;
   band.pade_order = pade_order;
@@ -133,9 +152,16 @@ LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
   band.crossings = std::move(crossings);
   // Unique gains (1e-10 relative), each with the first crossing found there.
   std::vector<BoundaryCrossing> cuts;
+  std::vector<bool> axis;  // some crossing at the cut is on the imaginary axis or at infinity
   for (const auto& c : band.crossings) {
-    if (!cuts.empty() && c.gain <= cuts.back().gain * (1.0 + 1e-10)) continue;
+    const bool on_axis =
+        c.boundary == Boundary::kImaginaryAxis || c.boundary == Boundary::kPoleAtInfinity;
+    if (!cuts.empty() && c.gain <= cuts.back().gain * (1.0 + 1e-10)) {
+      if (on_axis) axis.back() = true;
+      continue;
+    }
     cuts.push_back(c);
+    axis.push_back(on_axis);
   }
   const Complex nan_pole(kNaN, kNaN);
   // Interval bounds: 0, cuts..., inf. A cut's dominant pole is found only when a meeting
@@ -146,8 +172,14 @@ LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
   bounds.push_back({kInf, Boundary::kUnbounded, nan_pole, nan_pole});
 
   std::vector<Piece> pieces;
+  bool unstable = false;  // the last judged gain had an unstable pole
   for (size_t i = 0; i + 1 < bounds.size(); ++i) {
     double lo = bounds[i].gain, hi = bounds[i + 1].gain;
+    if (axis_complete && unstable && i > 0 && !axis[i - 1]) {
+      // No pole crossed the imaginary axis or infinity at this cut: still unstable.
+      pieces.push_back({lo, hi, false, bounds[i], bounds[i + 1]});
+      continue;
+    }
     double jl = lo > 0.0 ? lo : (std::isfinite(hi) ? hi * 1e-3 : ref * 1e-3);
     double jh = std::isfinite(hi) ? hi : (lo > 0.0 ? lo * 1e3 : ref * 1e3);
     // March through the interval in log K, with steps small enough that the lead (the signed
@@ -166,6 +198,11 @@ LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
     std::vector<Piece> local;
     local.push_back({lo, hi, prev.meets, bounds[i], bounds[i + 1]});
     double step = std::min(0.05, x_stop - x);
+    // Approach steps aim past the switch the secant of |lead| predicts, so that one step
+    // brackets it. Where such a step finds no switch the lead turned inside it, and the step
+    // is marched again, up to `careful_until`, a third of the predicted way at a time.
+    double careful_until = -kInf;
+    bool expect_switch = false;
     // Early exit: when the verdict does not depend on which pole dominates (pole_verdict.h),
     // it holds over the whole interval.
     if (prev.uniform) x = x_stop;
@@ -178,24 +215,45 @@ LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
         local.back().hi = sw;
         local.back().hi_edge = e;
         local.push_back({sw, hi, cur.meets, e, bounds[i + 1]});
+        // Beyond the switch the lead grows from zero: go on with the same step.
+        expect_switch = false;
+        x = x1;
+        prev = cur;
+        continue;
       }
       const double d_prev = std::abs(prev.lead), d_cur = std::abs(cur.lead);
       const bool finite = std::isfinite(d_cur) && std::isfinite(d_prev);
+      if (expect_switch) {
+        expect_switch = false;
+        careful_until = x1;
+        step = std::max(1e-5, (x1 - x) / 4.5);  // the step was 1.5 times the predicted way
+        continue;                               // from x again
+      }
       const double slope = finite ? std::abs(d_cur - d_prev) / (x1 - x) : 0.0;
-      if (finite && d_cur > d_prev && cur.meets == prev.meets) {
+      if (finite && d_cur > d_prev) {
         // Moving away from a switch: its secant predicts none, so the step may double (a later
         // approach is again seen by the secant rule below before the cap of 0.7).
         step = std::min(0.7, std::max(2.0 * step, d_cur / (3.0 * slope)));
+      } else if (finite && slope > 0.0) {
+        const double way = d_cur / slope;  // to where the secant of |lead| reaches zero
+        if (x1 >= careful_until && 1.5 * way <= 0.7) {
+          step = std::max(1.5 * way, 1e-5);
+          expect_switch = x1 + step < x_stop;
+        } else {
+          step = std::clamp(way / 3.0, 1e-5, 0.7);
+        }
       } else {
         step = 0.7;
-        if (std::isfinite(d_cur) && slope > 0.0)
-          step = std::clamp(d_cur / (3.0 * slope), 1e-5, 0.7);
       }
       const double scale = std::max(1e-12, std::abs(cur.dominant.real()));
-      if (std::isfinite(d_cur) && d_cur < 1e-9 * scale) step = 1e-5;
+      if (std::isfinite(d_cur) && d_cur < 1e-9 * scale) {
+        step = 1e-5;
+        expect_switch = false;
+      }
       x = x1;
       prev = cur;
     }
+    unstable = prev.failure == Failure::kUnstable;
     pieces.insert(pieces.end(), local.begin(), local.end());
   }
   for (const Piece& p : pieces) {
@@ -208,5 +266,7 @@ LocusBand BandFromCrossings(std::vector<BoundaryCrossing> crossings,
   }
   return band;
 }
+
+}  // namespace
 
 }  // namespace lw

@@ -9,16 +9,20 @@
 //     role passes between a passing and a failing pole (two poles with equal real parts, e.g.
 //     a slow real pole overtaken by a pair). PoleVerdict::lead (pole_verdict.h) measures that:
 //     the passing poles' largest real part minus the failing ones', continuous in K there, a
-//     dominance switch being a zero of it. Each interval is marched through in log K: after
-//     each judged gain the next step is a third of what the secant of |lead| predicts it needs
-//     to reach zero, at most a factor 2 in K and at least 1e-5 in log K (while |lead| grows the
-//     step doubles instead, up to the same cap), so the lead cannot reach zero and come back
-//     between two judged gains unless it moves faster than its secant says. Where the verdict
-//     changes, Brent's method on the lead (signed by the verdict) finds the switch to 1e-10
-//     relative in K: a "dominance switch" edge. An interval whose verdict does not depend on
-//     which pole dominates (PoleVerdict::uniform: a pole is unstable, or no pole or every pole
-//     passes) is judged once, not marched. FindLocusBand follows the closed-loop poles from one
-//     judged gain to the next (lti/root_tracker.h) instead of solving for them afresh.
+//     dominance switch being a zero of it. Each interval is marched through in log K, at most
+//     a factor 2 in K and at least 1e-5 in log K per step: while |lead| grows the step doubles;
+//     while it shrinks, the step aims at 1.5 times the way to where the secant of |lead| reaches
+//     zero, so one step brackets a switch. If the verdict then holds, the lead turned inside
+//     the step and may have touched zero twice, so that step is marched again a third of the
+//     secant's way at a time (the lead cannot reach zero and come back between two such judged
+//     gains unless it moves faster than its secant says). Where the verdict changes, Brent's
+//     method on the lead (signed by the verdict) finds the switch to 1e-10 relative in K: a
+//     "dominance switch" edge. An interval whose verdict does not depend on which pole
+//     dominates (PoleVerdict::uniform: a pole is unstable, or no pole or every pole passes) is
+//     judged once, not marched. FindLocusBand follows the closed-loop poles from one judged gain
+//     to the next (lti/root_tracker.h) instead of solving for them afresh, and does not judge an
+//     interval that follows an unstable one across a cut where no pole is on the imaginary axis
+//     or at infinity (the unstable poles cannot have left the right half plane).
 //  3. consecutive meeting intervals are merged into the band: a union of ranges [lo, hi], each
 //     edge with its gain, the boundary that made it, the pole on that boundary and the dominant
 //     pole there.

@@ -10,6 +10,7 @@ pole must also satisfy its boundary equation and the characteristic equation to 
 
 usage: design_sweep.py LOOPWRIGHT [--time]   (--time also prints the sweep's run time)
 """
+import functools
 import json
 import math
 import subprocess
@@ -31,6 +32,16 @@ CASES = [
     ("4/((3*s+1)*(s+1)*(0.2*s+1))", [4.0], np.polymul(np.polymul([3, 1], [1, 1]), [0.2, 1]),
      0.0, "pid:0.5:1:20", {"overshoot_max": 10.0, "settle_max": 6.0, "decay_min": 0.5}),
     ("0.8*exp(-0.5*s)/(s*(s+1))", [0.8], [1, 1, 0], 0.5, "p", {"zeta_min": 0.6}),
+    # High order with dead time (the benchmark's size): a lightly damped pair and eight lags.
+    ("2*exp(-0.3*s)/((0.0625*s^2+0.15*s+1)*(0.5*s+1)*(0.4*s+1)*(0.3*s+1)*(0.25*s+1)"
+     "*(0.2*s+1)*(0.15*s+1)*(0.1*s+1)*(0.05*s+1))", [2.0],
+     np.polymul([0.0625, 0.15, 1], functools.reduce(np.polymul, [[t, 1] for t in (
+         0.5, 0.4, 0.3, 0.25, 0.2, 0.15, 0.1, 0.05)])),
+     0.3, "pi:0.3", {"overshoot_max": 20.0}),
+    ("1.2*exp(-0.1*s)*(0.3*s+1)/((s+1)*(0.6*s+1)*(0.09*s^2+0.36*s+1)*(0.2*s+1)*(0.1*s+1))",
+     [0.36, 1.2], np.polymul(np.polymul(np.polymul([1, 1], [0.6, 1]), [0.09, 0.36, 1]),
+                             np.polymul([0.2, 1], [0.1, 1])),
+     0.1, "pid:0.5:2:20", {"wn_min": 0.3, "zeta_min": 0.4, "decay_min": 0.2}),
 ]
 PADE = 3
 SWEEP = 5000  # gains per plant (the benchmark, tests/bench/bench_band.py, times 20 000)
