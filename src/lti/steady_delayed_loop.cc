@@ -101,12 +101,22 @@ SteadyDelayedLoop::SteadyDelayedLoop(const LoopModel& m, double delay, double h)
 
 namespace {
 
+// On x86-64 with GCC the step loop is also built for AVX2 and picked at run time (no FMA, and
+// each output accumulates in the same order, so both builds give the same bits).
+#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__)
+#define LOOPWRIGHT_STEP_CLONES __attribute__((target_clones("avx2", "default")))
+#else
+#define LOOPWRIGHT_STEP_CLONES
+#endif
+
 // The step loop of SteadyDelayedLoop::Run for N loop states (kN > 0: known at compile time, so
 // the product unrolls; 0: any N, given in n). x = [z; older piece; newer piece; r].
 template <int kN>
-void RunSteps(int n_dynamic, const double* g, const RowVectorXd& y0, const RowVectorXd& u0,
-              std::vector<double>& store, std::size_t older, std::size_t newer, std::size_t ring,
-              double* x, long per_sample, std::size_t samples, double* y, double* u) {
+LOOPWRIGHT_STEP_CLONES void RunSteps(int n_dynamic, const double* g, const RowVectorXd& y0,
+                                     const RowVectorXd& u0, std::vector<double>& store,
+                                     std::size_t older, std::size_t newer, std::size_t ring,
+                                     double* x, long per_sample, std::size_t samples, double* y,
+                                     double* u) {
   const int n = kN > 0 ? kN : n_dynamic;
   const int rows = n + 4, cols = n + 9;
   constexpr int kRows = kN > 0 ? kN + 4 : 1;
