@@ -208,6 +208,9 @@ void ResponseBandOptions::Validate() const {
     throw UsageError("response band pade_order = " + std::to_string(pade_order) +
                      ": it must be an integer from 1 to 8");
   }
+  if (threads < 1) {
+    throw UsageError("response band threads = " + std::to_string(threads) + ": it must be >= 1");
+  }
 }
 
 GainSet ResponseBand::gains() const {
@@ -246,18 +249,20 @@ ResponseBand FindResponseBand(const TransferFunction& plant, const Controller& c
   for (int i = 0; i < n; ++i) {
     g[static_cast<size_t>(i)] = lo * std::pow(hi / lo, static_cast<double>(i) / (n - 1));
   }
-  // The grid's gains, then the edges, are independent: two threads share each list (the same
-  // results either way, each task being a pure function of its inputs).
-  std::vector<Judge> judges(2, Judge{plant, controller, specs, options, loop});
-  const auto on_two_threads = [&](size_t count, const std::function<void(Judge&, size_t)>& job) {
+  // The grid's gains, then the edges, are independent: `threads` threads share each list (the
+  // same results for any count, each task being a pure function of its inputs).
+  const size_t threads = static_cast<size_t>(options.threads);
+  std::vector<Judge> judges(threads, Judge{plant, controller, specs, options, loop});
+  const auto shared = [&](size_t count, const std::function<void(Judge&, size_t)>& job) {
     auto work = [&](size_t first) {
-      for (size_t i = first; i < count; i += 2) job(judges[first], i);
+      for (size_t i = first; i < count; i += threads) job(judges[first], i);
     };
-    std::thread other(work, 1);
+    std::vector<std::thread> pool;
+    for (size_t t = 1; t < std::min(threads, count); ++t) pool.emplace_back(work, t);
     work(0);
-    other.join();
+    for (auto& th : pool) th.join();
   };
-  on_two_threads(g.size(), [&](Judge& judge, size_t i) { v[i] = judge(g[i]); });
+  shared(g.size(), [&](Judge& judge, size_t i) { v[i] = judge(g[i]); });
   // Each range's start and end edge.
   std::vector<EdgeTask> tasks;
   bool open = false;
@@ -278,14 +283,14 @@ ResponseBand FindResponseBand(const TransferFunction& plant, const Controller& c
   }
   if (open) tasks.push_back({g.back(), 0.0, "", 10.0});
   std::vector<ResponseEdge> edges(tasks.size());
-  on_two_threads(tasks.size(), [&](Judge& judge, size_t i) {
+  shared(tasks.size(), [&](Judge& judge, size_t i) {
     const EdgeTask& t = tasks[i];
     edges[i] =
         t.extend != 0.0 ? judge.Extend(t.in, t.extend) : judge.Refine(t.in, t.out, t.fail_out);
   });
   ResponseBand band;
   for (size_t i = 0; i + 1 < edges.size(); i += 2) band.ranges.push_back({edges[i], edges[i + 1]});
-  band.simulations = judges[0].simulations + judges[1].simulations;
+  for (const Judge& j : judges) band.simulations += j.simulations;
   return band;
 }
 

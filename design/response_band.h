@@ -26,7 +26,8 @@
 // gains are missed. Gains judged "unstable" or "too slow" from their poles are not simulated;
 // an edge whose outer end fails that way is bisected on the poles alone and only its inner end
 // is simulated (when that end fails after all, the bisection is redone with simulations). The
-// grid's gains, then the edges, are shared by two threads; the result does not depend on it.
+// grid's gains, then the edges, are shared by `threads` threads; the result does not depend on
+// how many.
 #ifndef LOOPWRIGHT_DESIGN_RESPONSE_BAND_H_
 #define LOOPWRIGHT_DESIGN_RESPONSE_BAND_H_
 
@@ -46,6 +47,7 @@ struct ResponseBandOptions {
   int grid = 40;          // gains scanned, >= 8
   double rel_tol = 1e-6;  // edge bisection tolerance, 0 < rel_tol < 0.1
   int pade_order = 3;     // 1..8, only for record lengths and the scan range
+  int threads = 2;        // >= 1, share the grid and the edges; the result does not depend on it
   void Validate() const;  // throws UsageError naming the field
 };
 

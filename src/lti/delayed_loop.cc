@@ -187,7 +187,7 @@ DelayedLoop::Cubic DelayedLoop::Fit(const std::array<double, 4>& nodes, double l
 bool DelayedLoop::SteadyHistory(double t, double h, size_t count,
                                 std::vector<std::array<double, 4>>& out) const {
   if (count == 0 || pieces_.size() < count) return false;
-  const double tol = 1e-9 * h;
+  const double tol = 1e-9 * h + 1e-15 * std::abs(t);  // and the rounding of absolute times
   out.resize(count);
   double end = t;
   for (size_t i = 0; i < count; ++i) {

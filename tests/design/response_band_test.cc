@@ -9,6 +9,7 @@
 #include "design/gain_band.h"
 #include "design/infeasibility.h"
 #include "design/response_band.h"
+#include "lti/error.h"
 
 namespace lw {
 namespace {
@@ -91,6 +92,37 @@ TEST_CASE("response band edges straddle a pole-screened lower edge and an oversh
   REQUIRE(limits.size() == 2);
   CHECK(limits[0] == "too slow");
   CHECK(limits[1] == "overshoot");
+}
+
+TEST_CASE("the response band does not depend on how many threads share the search") {
+  // 0.8 exp(-0.25 s) / ((1.5 s + 1)(0.6 s + 1)(0.2 s + 1)) under PI control (zero at 0.5 rad/s).
+  TransferFunction plant(Polynomial({0.8}),
+                         Polynomial({1.5, 1.0}) * Polynomial({0.6, 1.0}) * Polynomial({0.2, 1.0}),
+                         0.25);
+  const Controller c = Controller::Parse("pi:0.5");
+  Specs specs;
+  specs.overshoot_max = 10.0;
+  specs.settle_max = 12.0;
+  ResponseBandOptions two;
+  const ResponseBand reference = FindResponseBand(plant, c, specs, two);
+  REQUIRE_FALSE(reference.empty());
+  for (int threads : {1, 3}) {
+    ResponseBandOptions o;
+    o.threads = threads;
+    const ResponseBand band = FindResponseBand(plant, c, specs, o);
+    CAPTURE(threads);
+    REQUIRE(band.ranges.size() == reference.ranges.size());
+    for (size_t i = 0; i < band.ranges.size(); ++i) {
+      CHECK(band.ranges[i].lo.gain == reference.ranges[i].lo.gain);
+      CHECK(band.ranges[i].hi.gain == reference.ranges[i].hi.gain);
+      CHECK(band.ranges[i].lo.limiting == reference.ranges[i].lo.limiting);
+      CHECK(band.ranges[i].hi.limiting == reference.ranges[i].hi.limiting);
+    }
+    CHECK(band.simulations == reference.simulations);
+  }
+  ResponseBandOptions none;
+  none.threads = 0;
+  CHECK_THROWS_AS(none.Validate(), UsageError);
 }
 
 TEST_CASE("infeasible pair: the sentence names both and the best value is the true maximum") {
