@@ -87,11 +87,23 @@ TEST_CASE("response band edges straddle a pole-screened lower edge and an oversh
                          0.4);
   Specs specs;
   specs.overshoot_max = 15.0;
-  const std::vector<std::string> limits =
-      CheckEdgesStraddle(plant, Controller::Parse("pi:0.25"), specs);
+  const Controller c = Controller::Parse("pi:0.25");
+  const std::vector<std::string> limits = CheckEdgesStraddle(plant, c, specs);
   REQUIRE(limits.size() == 2);
   CHECK(limits[0] == "too slow");
   CHECK(limits[1] == "overshoot");
+  // The same edge by plain bisection that simulates every middle the poles pass, from another
+  // bracket: within the two bisections' tolerances (1e-6 relative each).
+  const ResponseBandOptions opt;
+  const double edge = FindResponseBand(plant, c, specs, opt).ranges.front().lo.gain;
+  double in = edge * 1.5, out = edge / 1.5;
+  REQUIRE(CheckResponse(plant, c, in, specs, opt).meets);
+  REQUIRE(CheckResponse(plant, c, out, specs, opt).failed == "too slow");
+  while (in / out - 1.0 > opt.rel_tol) {
+    const double m = std::sqrt(in * out);
+    (CheckResponse(plant, c, m, specs, opt).meets ? in : out) = m;
+  }
+  CHECK(std::sqrt(in * out) == doctest::Approx(edge).epsilon(2e-6));
 }
 
 TEST_CASE("the response band does not depend on how many threads share the search") {
