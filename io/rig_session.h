@@ -136,6 +136,9 @@ class RigSession {
   bool dry_run() const { return !link_; }
   bool driving() const { return driving_; }
   const std::string& port() const { return port_; }
+  // The heartbeat interval Connect() chose (RigSessionOptions::heartbeat, else a quarter of the
+  // rig's watchdog time, at least 10 ms); 250 ms before Connect().
+  std::chrono::milliseconds heartbeat_interval() const { return heartbeat_; }
 
  private:
   struct Reply {
