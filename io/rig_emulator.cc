@@ -245,8 +245,10 @@ void RigEmulator::OnEvent(const RigLineEvent& event) {
 
 void RigEmulator::OnMessage(const RigMessage& m) {
   if (IsRigToHost(m.kind)) {
-    Refuse(m.seq, "syntax",
-           "'" + std::string(RigMessageWord(m.kind)) + "' is a rig-to-host message");
+    // Built by appending: GCC 12 warns falsely (-Wrestrict) about "'" + std::string(...).
+    std::string text(1, '\'');
+    text.append(RigMessageWord(m.kind)).append("' is a rig-to-host message");
+    Refuse(m.seq, "syntax", text);
     return;
   }
   switch (m.kind) {
@@ -288,6 +290,8 @@ void RigEmulator::OnMessage(const RigMessage& m) {
       reference_ = m.value;
       Send(RigMessage::Ok(0, m.seq));
       SetMode(RigMode::kClosed, "");
+      Note("loop: controller " + m.controller + ", gain " + Num(m.gain) + ", reference " +
+           Num(m.value));
       return;
     }
     case RigMessageKind::kRef:
@@ -298,6 +302,7 @@ void RigEmulator::OnMessage(const RigMessage& m) {
       }
       reference_ = m.value;
       Send(RigMessage::Ok(0, m.seq));
+      Note("reference " + Num(m.value));
       return;
     case RigMessageKind::kGo:
       streaming_ = true;

@@ -34,6 +34,9 @@
 //   go / halt -> ok; streaming on / off
 //   safe      -> ok; mode safe
 //   beat      -> ok
+// Accepted loop and ref lines are noted (TakeNotes) with the controller, gain and reference the
+// rig now runs: "loop: controller pi:0.5, gain 2.5, reference 40", "reference 45"; so is every
+// mode change ("mode closed", "mode safe (safe stop)").
 // A line of the rig's own kinds gets err syntax; a corrupted or malformed line gets
 // "err SEQ N crc|syntax TEXT" with N its SEQ field when that can be read, else 0. Every mode
 // change sends "state SEQ MODE [why]" after the ok.

@@ -177,6 +177,16 @@ struct RigEmulatorServer::Impl {
 
   void StartRead() {
     auto done = [this](const boost::system::error_code& ec, std::size_t n) {
+      if (closing) {
+        // Only waiting for the host to close its end (TCP, after our FIN): it has read
+        // everything we sent, so closing now loses nothing.
+        if (ec) {
+          if (ec != asio::error::operation_aborted) Shutdown();
+          return;
+        }
+        StartRead();
+        return;
+      }
       if (ec) {
         if (ec == asio::error::operation_aborted) return;
         LinkLost(ec == asio::error::eof ? "the host closed the connection"
@@ -292,19 +302,18 @@ struct RigEmulatorServer::Impl {
       boost::system::error_code ignored;
       client->shutdown(asio::ip::tcp::socket::shutdown_send, ignored);
     }
-    if ((unread == 0 && !tcp()) || Clock::now() >= close_deadline) {
+    if ((unread == 0 && !tcp()) || !connected() || Clock::now() >= close_deadline) {
       Shutdown();
       return;
     }
-    // TCP: give the host a moment to read what is in flight before the socket closes.
-    timer.expires_after(std::chrono::milliseconds(tcp() ? 100 : 5));
+    // TCP: the host reads what is in flight, then sees the end of the stream and closes its
+    // end, which ends the pending read (StartRead). Closing before that, with host lines still
+    // unread here, would send a reset that can make the host's system discard what it has
+    // received but not yet read; close_timer ends the wait after close_deadline.
+    if (tcp()) return;
+    timer.expires_after(std::chrono::milliseconds(5));
     timer.async_wait([this](const boost::system::error_code& ec) {
-      if (ec) return;
-      if (tcp()) {
-        Shutdown();
-      } else {
-        Drain();
-      }
+      if (!ec) Drain();
     });
   }
 

@@ -248,6 +248,14 @@ TEST_CASE("rig emulator: closed loop settles where the final-value theorem says"
     CHECK(samples.back().sample.output == doctest::Approx(want).epsilon(1e-6));
     CHECK(samples.back().sample.reference == 7.0);
     CHECK(rig.mode() == lw::RigMode::kClosed);
+    // What the rig runs, in its notes (the emulator's display shows them).
+    rig.HostBytes(host.Line(lw::RigMessage::Ref(0, 7.5)), 20'000'000);
+    std::vector<std::string> notes;
+    for (const auto& n : rig.TakeNotes()) notes.push_back(n.text);
+    CHECK(notes == std::vector<std::string>{
+                       "mode closed",
+                       "loop: controller " + std::string(controller) + ", gain 3, reference 7",
+                       "reference 7.5"});
   }
 }
 
