@@ -17,11 +17,16 @@
 //   7. `check` -> check.json, the verdict;  8. `report` -> report.html
 // The rig session (heartbeat, trips, signals) stays open from 1 to 6. Exit status: check's
 // (0 confirmed, 1 stale or saturated), or the first failure's.
+// --dry-run opens nothing and writes nothing: it prints every line of the step test (SEQ and
+// CRC included), then steps 2 to 8 as they would run, the commands with K for the proposed gain
+// and A:B for the verification step where only the step test can tell them; with --gain and
+// --ref-step both given, step 6's lines are printed exactly too.
 #include <chrono>
 #include <cmath>
 #include <ctime>
 #include <filesystem>
 #include <fstream>
+#include <functional>
 #include <memory>
 #include <optional>
 #include <sstream>
@@ -62,13 +67,25 @@ void Banner(Context& ctx, int step, const std::string& what) {
   ctx.out << "\n" << Bold(ctx, "tune " + std::to_string(step) + ": " + what) << "\n" << std::flush;
 }
 
+void PrintCommand(Context& ctx, const std::string& name, const std::vector<std::string>& args) {
+  ctx.out << "$ loopwright " << CommandText(name, args) << "\n" << std::flush;
+}
+
 // Runs a command in-process with its output shown, after printing its command line.
 int Show(Context& ctx, const std::string& name, const std::vector<std::string>& args) {
-  ctx.out << "$ loopwright " << CommandText(name, args) << "\n" << std::flush;
+  PrintCommand(ctx, name, args);
   int status = RunCommand(ctx, name, args);
   ctx.out << std::flush;
   return status;
 }
+
+// The commands tune runs after the step test. The gain and the verification step are text:
+// their numbers in a run, and in a dry run "K", "A" and "B" where only the step test can tell.
+struct TunePlan {
+  std::vector<std::string> fit, band, predict, check, report;
+};
+
+using FileNamer = std::function<std::string(const std::string&)>;
 
 class TuneCommand : public Command {
  public:
@@ -97,12 +114,14 @@ class TuneCommand : public Command {
     PhaseTiming timing;
     timing.settle_s = ParseSettle(settle_);
     timing.max_wait_s = max_wait_;
+    std::optional<std::pair<double, double>> ref_step;
+    if (!ref_step_.empty()) ref_step = ParseRefStep(ref_step_);
     ResolvedRig rig = rig_.Resolve(ctx);
     if (controller_.has_gain()) rig.limits.RequireGain(controller_.gain());
     std::string dir = dir_;
     if (dir.empty())
       dir = (std::filesystem::path(rig.workspace.value_or(".")) / ("tune-" + Stamp())).string();
-    auto file = [&](const std::string& name) {
+    const FileNamer file = [dir](const std::string& name) {
       return (std::filesystem::path(dir) / name).string();
     };
     StopSignalGuard guard;
@@ -127,27 +146,26 @@ class TuneCommand : public Command {
     Banner(ctx, 1, "step test " + FormatNumber(u0, 6) + " -> " + FormatNumber(u1, 6));
     StepOutcome step = RunOpenLoopStep(ctx, *session, u0, u1, timing, file("step.csv"), tag);
     if (session->dry_run()) {
-      ctx.out << "dry run: the fit, band and closed-loop step need the step test's recording; "
-                 "stopping here\n";
-      return 0;
+      return PrintRestOfPlan(ctx, *session, controller, rig.specs, ref_step, timing, file);
     }
     RecordingSummary(ctx, *session, step.path, step.samples);
 
+    const std::string actuator = ActuatorRangeText(limits);
+    TunePlan plan = MakePlan(file, controller, rig.specs, "", "", "", actuator, caps.name);
     Banner(ctx, 2, "fit a model to the step test");
-    Show(ctx, "fit", {file("step.csv"), "-o", file("model.json"), "--plot", file("fit.svg")});
+    Show(ctx, "fit", plan.fit);
 
     Banner(ctx, 3, "the gain band for the specs");
-    std::vector<std::string> band_args = {file("model.json"), "--controller", controller.ToString(),
-                                          "-o", file("band.json")};
-    AddSpecs(band_args, rig.specs);
-    Show(ctx, "band", band_args);
+    Show(ctx, "band", plan.band);
     double gain = controller_.has_gain() ? controller_.gain() : RecommendedGain(file("band.json"));
     std::string why = limits.CheckGain(gain);
     if (!why.empty()) throw JobFailed("the proposed " + why + "; nothing was applied");
 
     double a = step.level_before;
     double b = a + 0.5 * (step.level_after - step.level_before);
-    if (!ref_step_.empty()) std::tie(a, b) = ParseRefStep(ref_step_);
+    if (ref_step) std::tie(a, b) = *ref_step;
+    plan = MakePlan(file, controller, rig.specs, ShortestText(gain), ShortestText(a),
+                    ShortestText(b), actuator, caps.name);
     Banner(ctx, 4, "proposal");
     ctx.out << "  apply " << controller.ToString() << " at K = " << FormatNumber(gain, 6)
             << " and step the reference " << FormatNumber(a, 6) << " -> " << FormatNumber(b, 6)
@@ -155,18 +173,8 @@ class TuneCommand : public Command {
     ConfirmDriving(ctx, rig, "apply K = " + FormatNumber(gain, 6) + " on '" + caps.name + "'");
 
     Banner(ctx, 5, "predict the closed loop at K = " + FormatNumber(gain, 6));
-    std::vector<std::string> predict_args = {
-        file("model.json"),
-        "--gain",
-        ShortestText(gain),
-        "--controller",
-        controller.ToString(),
-        "--reference",
-        "step:" + ShortestText(a) + ":" + ShortestText(b) + ":0"};
-    std::string actuator = ActuatorRangeText(limits);
-    if (!actuator.empty()) predict_args.insert(predict_args.end(), {"--actuator", actuator});
-    Show(ctx, "predict", predict_args);
-    SavePrediction(ctx, predict_args, file("prediction.json"));
+    Show(ctx, "predict", plan.predict);
+    SavePrediction(ctx, plan.predict, file("prediction.json"));
 
     Banner(
         ctx, 6,
@@ -179,21 +187,10 @@ class TuneCommand : public Command {
     session.reset();
 
     Banner(ctx, 7, "check the model against the closed-loop step");
-    std::vector<std::string> check_args = {file("model.json"),
-                                           "--gain",
-                                           ShortestText(gain),
-                                           "--controller",
-                                           controller.ToString(),
-                                           file("closed_loop.csv"),
-                                           "--save",
-                                           file("check.json")};
-    if (!actuator.empty()) check_args.insert(check_args.end(), {"--actuator", actuator});
-    int verdict = Show(ctx, "check", check_args);
+    int verdict = Show(ctx, "check", plan.check);
 
     Banner(ctx, 8, "report");
-    Show(ctx, "report",
-         {file("model.json"), file("band.json"), file("prediction.json"), file("check.json"),
-          file("fit.svg"), "--title", "Tuning of " + caps.name, "-o", file("report.html")});
+    Show(ctx, "report", plan.report);
     ctx.out << "\ntune done: files in " << dir << "\n";
     nlohmann::json summary = {{"dir", dir},
                               {"gain", gain},
@@ -222,6 +219,93 @@ class TuneCommand : public Command {
     double d = 0.1 * (l.actuator_hi - l.actuator_lo);
     d = std::min(d, l.max_step);
     return u0 + d <= l.actuator_hi ? u0 + d : u0 - d;
+  }
+
+  // fit, band, predict, check and report as tune runs them; gain, a and b as text (predict and
+  // check need them; fit and band do not).
+  TunePlan MakePlan(const FileNamer& file, const Controller& controller, const RigSpecs& specs,
+                    const std::string& gain, const std::string& a, const std::string& b,
+                    const std::string& actuator, const std::string& rig_name) const {
+    TunePlan p;
+    p.fit = {file("step.csv"), "-o", file("model.json"), "--plot", file("fit.svg")};
+    p.band = {file("model.json"), "--controller", controller.ToString(), "-o", file("band.json")};
+    AddSpecs(p.band, specs);
+    p.predict = {file("model.json"),
+                 "--gain",
+                 gain,
+                 "--controller",
+                 controller.ToString(),
+                 "--reference",
+                 "step:" + a + ":" + b + ":0"};
+    p.check = {file("model.json"),
+               "--gain",
+               gain,
+               "--controller",
+               controller.ToString(),
+               file("closed_loop.csv"),
+               "--save",
+               file("check.json")};
+    if (!actuator.empty()) {
+      p.predict.insert(p.predict.end(), {"--actuator", actuator});
+      p.check.insert(p.check.end(), {"--actuator", actuator});
+    }
+    p.report = {file("model.json"), file("band.json"), file("prediction.json"), file("check.json"),
+                file("fit.svg"),    "--title",         "Tuning of " + rig_name, "-o",
+                file("report.html")};
+    return p;
+  }
+
+  // A dry run after the step test's lines: what tune would do next, step by step, with K, A
+  // and B standing for what only the step test can tell (numbers where --gain and --ref-step
+  // give them). With both given, the closed-loop step's lines are printed exactly (SEQ, CRC).
+  int PrintRestOfPlan(Context& ctx, RigSession& session, const Controller& controller,
+                      const RigSpecs& specs, const std::optional<std::pair<double, double>>& ref,
+                      const PhaseTiming& timing, const FileNamer& file) const {
+    const bool gain_known = controller_.has_gain();
+    const std::string k = gain_known ? ShortestText(controller_.gain()) : "K";
+    const std::string a = ref ? ShortestText(ref->first) : "A";
+    const std::string b = ref ? ShortestText(ref->second) : "B";
+    const std::string c = controller.ToString();
+    ctx.out << "\ndry run: the step test's lines end here; then tune would do what follows";
+    if (!gain_known) ctx.out << "; K is the gain the band recommends";
+    if (!ref) {
+      ctx.out << "; A is the output's level at rest before the step test's step and "
+                 "B = A + half the step test's output change";
+    }
+    ctx.out << "\n";
+    TunePlan plan = MakePlan(file, controller, specs, k, a, b, ActuatorRangeText(session.limits()),
+                             session.caps().name);
+    Banner(ctx, 2, "fit a model to the step test");
+    PrintCommand(ctx, "fit", plan.fit);
+    Banner(ctx, 3, "the gain band for the specs");
+    PrintCommand(ctx, "band", plan.band);
+    const std::string at_k = gain_known ? "K = " + k : "K";
+    Banner(ctx, 4, "proposal");
+    ctx.out << "  apply " << c << " at " << at_k << " and step the reference " << a << " -> " << b;
+    const double max_gain = session.limits().max_gain;
+    if (std::isfinite(max_gain)) {
+      ctx.out << " (a gain above the maximum " << FormatNumber(max_gain, 6) << " is refused)";
+    }
+    ctx.out << "; asked on a terminal, else --yes\n";
+    Banner(ctx, 5, "predict the closed loop at " + at_k);
+    PrintCommand(ctx, "predict", plan.predict);
+    ctx.out << "  (and its JSON document to " << file("prediction.json") << ")\n";
+    Banner(ctx, 6, "apply and verify: closed-loop step " + a + " -> " + b);
+    if (gain_known && ref) {
+      RunClosedLoopStep(ctx, session, c, controller_.gain(), ref->first, ref->second, timing,
+                        file("closed_loop.csv"), "");
+      session.SafeStop("tune: closed-loop step recorded");
+    } else {
+      ctx.out << "  lines (their numbers known once the fit is done): go; loop " << c << " " << k
+              << " " << a << "; at rest, ref " << b << "; at rest, halt; safe\n";
+    }
+    ctx.out << "  the step from its baseline recorded to " << file("closed_loop.csv") << "\n";
+    Banner(ctx, 7, "check the model against the closed-loop step");
+    PrintCommand(ctx, "check", plan.check);
+    Banner(ctx, 8, "report");
+    PrintCommand(ctx, "report", plan.report);
+    ctx.out << "\ndry run: nothing was opened or sent; no file was written\n";
+    return 0;
   }
 
   void AddSpecs(std::vector<std::string>& args, const RigSpecs& profile) const {

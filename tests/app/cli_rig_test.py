@@ -129,10 +129,10 @@ def case_zero_loss_tcp():
     zero_loss(True)
 
 
-def case_faults():
+def faults(tcp):
     # Injected drops and corruption: the host's counts equal the emulator's exactly.
     emu = Emulator("--plant", "3/(0.2*s+1)", "--rate", "1000", "--speed", "10",
-                   "--faults", "drop=0.01,corrupt=0.02", "--seed", "11")
+                   "--faults", "drop=0.01,corrupt=0.02", "--seed", "11", tcp=tcp)
     rec = fresh("faults.csv")
     code, out, err = run("record", "--port", emu.where, "-o", rec, "--duration", "20")
     emu_err = emu.stop()
@@ -161,19 +161,42 @@ def case_faults():
     check(len(set(seqs)) == len(seqs), "no sample used twice")
 
 
-def case_disconnect():
+def case_faults():
+    faults(False)
+
+
+def case_faults_tcp():
+    faults(True)
+
+
+def disconnect(tcp):
+    # The rig drops the link 3 s of rig time after go: exit 4 with one sentence naming the port,
+    # and every sample the rig sent intact before it is in the file, which ends with a whole line.
     emu = Emulator("--plant", "1/(0.1*s+1)", "--rate", "100", "--speed", "4",
-                   "--faults", "disconnect-after=3")
+                   "--faults", "disconnect-after=3", tcp=tcp)
     rec = fresh("cut.csv")
     code, out, err = run("record", "--port", emu.where, "-o", rec, "--duration", "20")
-    emu.stop()
+    emu_err = emu.stop()
     check(code == 4, f"a dropped link exits 4 (got {code})")
-    check("link" in err or "closed" in err or "stopped answering" in err,
-          f"the message says the link went ({err.strip()})")
+    check(emu.where in err and ("closed the link" in err or "stopped answering" in err),
+          f"the message names the port and says the link went ({err.strip()})")
+    check(len(err.strip().splitlines()) == 1, f"the message is one line ({err.strip()!r})")
     text, comments, _, rows = read_recording(rec)
     check(text.endswith("\n"), "the recording ends with a whole line")
-    check(250 <= len(rows) <= 320, f"about 3 s at 100 Hz recorded ({len(rows)})")
+    check(all(len(r) == 5 for r in rows), "every row is whole")
+    check(300 <= len(rows) <= 302, f"3 s at 100 Hz recorded ({len(rows)})")
+    counts = emulator_counts(emu_err)
+    check(counts is not None and counts[0] == len(rows),
+          f"every sample the rig sent is in the file ({counts} vs {len(rows)})")
     check(any(c.startswith("link lost") for c in comments), "the loss is noted in the recording")
+
+
+def case_disconnect():
+    disconnect(False)
+
+
+def case_disconnect_tcp():
+    disconnect(True)
 
 
 def traffic(log_path):
@@ -280,6 +303,146 @@ def case_limits():
         body, _, crc = s.rpartition(" *")
         check(crc == "%04X" % crc16_ccitt_false(body.encode()), f"CRC of '{s}'")
     check(not os.path.exists(os.path.join(WORK, "dry.csv")), "a dry run writes no recording")
+
+
+def emulator_notes(err_text, prefix):
+    # "[rig 1.23 s] loop: controller p, gain 1.5, reference 30" -> the texts after "] ".
+    return [l.split("] ", 1)[1] for l in err_text.splitlines()
+            if l.startswith("[rig ") and "] " in l and l.split("] ", 1)[1].startswith(prefix)]
+
+
+def case_apply():
+    # apply closes the emulated rig's loop at the gain asked for, and the rig runs with it.
+    # Plant 2/(0.5 s + 1) from rest at u = 0. Proportional control at K = 1.5 around r = 30:
+    # u = K (r - y) at every sample, and by the final-value theorem (any control text, e.g.
+    # Ogata, Modern Control Engineering, steady-state error of a type-0 loop; from memory)
+    # y -> K G(0) r / (1 + K G(0)) = 3/4 r = 22.5, first order with time constant 0.5 / 4 s.
+    log = fresh("apply_traffic.log")
+    emu = Emulator("--plant", "2/(0.5*s+1)", "--rate", "100", "--speed", "4", "--log", log)
+    rec = fresh("apply.csv")
+    code, out, err = run("apply", "--port", emu.where, "--controller", "p", "--gain", "1.5",
+                         "--reference", "30", "--duration", "4", "--yes", "-o", rec)
+    time.sleep(0.3)
+    emu_err = emu.stop()
+    check(code == 0, f"apply exits 0 (got {code}: {err.strip()})")
+    check("applied p at K = 1.5, reference 30" in out, f"apply says what it applied ({out!r})")
+    check("safe stop sent" in out, f"apply ends with the safe stop ({out!r})")
+    # The rig's own account: what it was told and what it then ran.
+    check(emulator_notes(emu_err, "loop:") == ["loop: controller p, gain 1.5, reference 30"],
+          f"the emulator runs p at gain 1.5 towards 30 ({emulator_notes(emu_err, 'loop:')})")
+    modes = emulator_notes(emu_err, "mode ")
+    check(modes == ["mode closed", "mode safe (safe stop)"], f"closed, then safe ({modes})")
+    t = traffic(log)
+    loops = [l.split() for _, _, d, l in t if d == "in" and l.startswith("loop ")]
+    check(len(loops) == 1 and loops[0][2:5] == ["p", "1.5", "30"],
+          f"one loop line with p 1.5 30 ({loops})")
+    if len(loops) == 1:
+        acked = [l.split() for _, _, d, l in t if d == "out" and l.startswith("ok ")]
+        check(any(a[2] == loops[0][1] for a in acked), "the rig acknowledged the loop line")
+    check(any(d == "out" and l.split()[0] == "state" and l.split()[2] == "closed"
+              for _, _, d, l in t), "the rig reported mode closed")
+    check(any(d == "in" and l.startswith("safe ") for _, _, d, l in t), "the safe stop went out")
+    _, _, header, _ = read_recording(rec)
+    check(header == ["t", "r", "u", "y", "seq"], f"columns t,r,u,y,seq ({header})")
+    # Rows in file order, split at the note of the safe stop: before it, every row with the
+    # reference 30 is closed loop; after it, a row is one still in flight (the same law) or one
+    # at the safe value 0.
+    before, after, seen_safe = [], [], False
+    with open(rec) as f:
+        for line in f.read().splitlines()[2:]:
+            if line.startswith("#"):
+                seen_safe = seen_safe or "safe stop sent" in line
+            elif line:
+                (after if seen_safe else before).append([float(c) for c in line.split(",")])
+    check(seen_safe, "the recording notes the safe stop")
+    law = lambda r: abs(r[2] - 1.5 * (30 - r[3])) <= 1e-6 * max(1, abs(r[2]))
+    closed = [r for r in before if r[1] == 30]
+    check(len(closed) >= 350, f"about 4 s of closed loop at 100 Hz recorded ({len(closed)})")
+    check(all(r[1] == 0 and r[2] == 0 for r in before if r[1] != 30),
+          "before the loop: reference 0, actuator at the safe value 0")
+    check(all(law(r) or r[2] == 0 for r in after), "after the safe stop: the law or u = 0")
+    if closed:
+        bad = [r for r in closed if not law(r)]
+        check(not bad, f"u = 1.5 (30 - y) at every closed-loop sample ({bad[:3]})")
+        ys = [r[3] for r in closed]
+        check(ys[0] < 1.0, f"the loop starts from rest near 0 ({ys[0]})")
+        check(all(b >= a - 1e-9 for a, b in zip(ys, ys[1:])), "y rises towards the reference")
+        check(abs(ys[-1] - 22.5) < 1e-4, f"y settles at 3/4 of the reference, 22.5 ({ys[-1]})")
+        check(all(y < 30 for y in ys), "y never passes the reference (type-0 loop)")
+
+    # Without --reference the loop holds the output where it is. The rig rests at u = 20, so
+    # y = 2 * 20 = 40; with integral action (pi:2) the loop needs u = r / G(0) = 20 at rest
+    # (final-value theorem again), and the switch into the loop is bumpless: y stays at 40.
+    emu = Emulator("--plant", "2/(0.5*s+1)", "--rate", "100", "--speed", "4", "--safe", "20")
+    rec = fresh("apply_hold.csv")
+    code, out, err = run("apply", "--port", emu.where, "--controller", "pi:2", "--gain", "0.5",
+                         "--duration", "3", "--yes", "-o", rec)
+    emu_err = emu.stop()
+    check(code == 0, f"apply without --reference exits 0 (got {code}: {err.strip()})")
+    check("applied pi:2 at K = 0.5, reference 40 on" in out, f"reference 40 from y ({out!r})")
+    check(emulator_notes(emu_err, "loop:") == ["loop: controller pi:2, gain 0.5, reference 40"],
+          f"the emulator runs pi:2 at 0.5 towards 40 ({emulator_notes(emu_err, 'loop:')})")
+    _, _, _, rows = read_recording(rec)
+    closed = [r for r in rows if r[1] == 40]
+    check(len(closed) >= 250, f"about 3 s of closed loop recorded ({len(closed)})")
+    if closed:
+        check(max(abs(r[3] - 40) for r in closed) < 1e-6, "y held at 40")
+        check(abs(closed[-1][2] - 20) < 1e-6, f"u at 20 = r / G(0) ({closed[-1][2]})")
+
+
+def dry_run_lines(out):
+    return [l[len("would send: "):] for l in out.splitlines() if l.startswith("would send: ")]
+
+
+def case_tune_dry_run():
+    # tune --dry-run prints the step test's lines, then the rest of the job, and opens, sends
+    # and writes nothing.
+    out_dir = os.path.join(WORK, "dry_tune")
+    code, out, err = run("tune", "--port", "/dev/null/none", "--dry-run", "--actuator", "0:100",
+                         "--controller", "pi:1.2", "--dir", out_dir)
+    check(code == 0, f"tune --dry-run exits 0 (got {code}: {err.strip()})")
+    sent = dry_run_lines(out)
+    words = [s.split()[0] for s in sent]
+    check(words == ["hello", "go", "u", "u", "u", "halt"], f"the step test's lines ({words})")
+    check([s.split()[2] for s in sent if s.startswith("u ")] == ["40", "50", "40"],
+          f"40 % of the range, 10 % up, back ({sent})")
+    for s in sent:
+        body, _, crc = s.rpartition(" *")
+        check(crc == "%04X" % crc16_ccitt_false(body.encode()), f"CRC of '{s}'")
+    check([int(s.split()[1]) for s in sent] == list(range(len(sent))), "SEQ 0, 1, 2, ...")
+    banners = re.findall(r"^tune (\d): ", out, re.M)
+    check(banners == [str(i) for i in range(1, 9)], f"steps 1 to 8 in order ({banners})")
+    commands = [l.split()[2] for l in out.splitlines() if l.startswith("$ loopwright ")]
+    check(commands == ["fit", "band", "predict", "check", "report"],
+          f"fit, band, predict, check, report ({commands})")
+    step_csv = os.path.join(out_dir, "step.csv")
+    check(f"$ loopwright fit {step_csv} -o" in out, "fit reads the step test's recording")
+    check(re.search(r"\$ loopwright predict \S+ --gain K --controller pi:1\.2 "
+                    r"--reference step:A:B:0", out) is not None, "predict at K, step A -> B")
+    check("loop pi:1.2 K A" in out and "ref B" in out, "the closed-loop step's lines, as a plan")
+    check(not os.path.exists(out_dir), "a dry run creates no folder")
+
+    # With --gain and --ref-step the closed-loop step's lines are exact too.
+    code, out, err = run("tune", "--port", "/dev/null/none", "--dry-run", "--actuator", "0:100",
+                         "--controller", "pi:1.2", "--gain", "0.8", "--ref-step", "0.5:0.7",
+                         "--dir", out_dir)
+    check(code == 0, f"tune --dry-run --gain --ref-step exits 0 (got {code}: {err.strip()})")
+    sent = dry_run_lines(out)
+    words = [s.split()[0] for s in sent]
+    check(words == ["hello", "go", "u", "u", "u", "halt", "go", "loop", "ref", "halt", "safe"],
+          f"step test, then the closed-loop step ({words})")
+    for s in sent:
+        body, _, crc = s.rpartition(" *")
+        check(crc == "%04X" % crc16_ccitt_false(body.encode()), f"CRC of '{s}'")
+    check([int(s.split()[1]) for s in sent] == list(range(len(sent))), "SEQ 0 to 10")
+    loop = next((s.split() for s in sent if s.startswith("loop ")), [])
+    check(loop[2:5] == ["pi:1.2", "0.8", "0.5"], f"loop pi:1.2 0.8 0.5 ({loop})")
+    ref = next((s.split() for s in sent if s.startswith("ref ")), [])
+    check(ref[2:3] == ["0.7"], f"ref 0.7 ({ref})")
+    check("--gain 0.8" in out and "step:0.5:0.7:0" in out, "predict at the given gain and step")
+    code, out, err = run("tune", "--port", "/dev/null/none", "--dry-run", "--actuator", "0:100",
+                         "--controller", "pi:1.2", "--gain", "0.8", "--max-gain", "0.5")
+    check(code == 2 and "maximum gain" in err, f"a gain over --max-gain is refused ({err.strip()})")
 
 
 def case_tune():
