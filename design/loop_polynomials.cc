@@ -46,16 +46,17 @@ LoopPolynomials LoopPolynomials::ForPiZero(const TransferFunction& plant, double
 }
 
 double LoopPolynomials::FrequencyScale() const {
+  // Vieta: the product of the nonzero roots' magnitudes is |c_low / c_lead|, c_low the lowest
+  // nonzero coefficient (the trailing zero coefficients are the roots at the origin).
   double log_sum = 0.0;
   int count = 0;
   for (const Polynomial* p : {&a, &b}) {
-    for (const auto& r : p->roots()) {
-      double m = std::abs(r);
-      if (m > 1e-9) {
-        log_sum += std::log(m);
-        ++count;
-      }
-    }
+    const auto& c = p->coefficients();
+    size_t last = c.size();
+    while (last > 0 && c[last - 1] == 0.0) --last;
+    if (last < 2) continue;  // no nonzero roots
+    log_sum += std::log(std::abs(c[last - 1])) - std::log(std::abs(c[0]));
+    count += static_cast<int>(last) - 1;
   }
   return count ? std::exp(log_sum / count) : 1.0;
 }

@@ -44,7 +44,9 @@ struct LoopPolynomials {
   // The closed-loop poles at p (roots of a + p b; Polynomial::roots order).
   std::vector<std::complex<double>> PolesAt(double p) const { return Characteristic(p).roots(); }
   // A frequency scale (rad/s) of the problem: the geometric mean magnitude of the nonzero roots
-  // of a and b, 1 when there are none. Used to scale sampling ranges.
+  // of a and b, 1 when there are none. Used to scale sampling ranges. From the coefficients
+  // (Vieta: the nonzero roots of c_0 s^n + ... + c_k s^(n-k), c_k the lowest nonzero
+  // coefficient, multiply to |c_k / c_0| in magnitude), so no roots are solved for.
   double FrequencyScale() const;
 };
 
