@@ -1,5 +1,6 @@
 // Exact locus band: textbook and Routh-Hurwitz checks, then plants of our own.
 #include <cmath>
+#include <limits>
 #include <numbers>
 
 #include <doctest/doctest.h>
@@ -188,6 +189,102 @@ TEST_CASE("a real pole overtakes a pair and is overtaken back inside one interva
   CHECK(band.intervals[1].lo.boundary == Boundary::kDominanceSwitch);
   CHECK(band.intervals[0].hi.gain == doctest::Approx(18.77).epsilon(2e-3));
   CHECK(band.intervals[1].lo.gain == doctest::Approx(27.33).epsilon(2e-3));
+}
+
+}  // namespace
+}  // namespace lw
+
+namespace lw {
+namespace {
+
+TEST_CASE("the verdict's lead: passing poles minus failing ones, by hand") {
+  // zeta >= 0.5 and every non-dominant pole with -Re s >= 1. Poles: -0.4 (real, zeta 1, slow),
+  // -2 +/- 1j (zeta 0.89), -3 +/- 6j (zeta 0.45, fails zeta). -0.4 passes only if everything
+  // else decays by 1: yes. The pair -2 +/- 1j would pass as dominant only if -0.4 decayed: no.
+  // So the passing set is {-0.4}; the others' largest real part is -2: lead = -0.4 - (-2) = 1.6.
+  Region region;
+  region.zeta_min = 0.5;
+  region.decay_min = 1.0;
+  using C = std::complex<double>;
+  PoleVerdict v = JudgePoles({C(-3, -6), C(-3, 6), C(-2, -1), C(-2, 1), C(-0.4, 0)}, region);
+  CHECK(v.meets);
+  CHECK(v.lead == doctest::Approx(1.6).epsilon(1e-15));
+  CHECK_FALSE(v.uniform);
+  // A second slow pole, -0.6: whichever pole dominates, a non-dominant one is slow, so nothing
+  // passes: lead -inf, uniform, and the verdict fails on decay (-0.4 dominant, -0.6 slow).
+  v = JudgePoles({C(-3, -6), C(-3, 6), C(-2, -1), C(-2, 1), C(-0.6, 0), C(-0.4, 0)}, region);
+  CHECK_FALSE(v.meets);
+  CHECK(v.failure == Failure::kDecay);
+  CHECK(v.lead == -std::numeric_limits<double>::infinity());
+  CHECK(v.uniform);
+  // Without the decay floor every pole but the zeta-0.45 pair passes: lead = -2 - (-3) = 1 with
+  // the pair -2 +/- 1j dominant; move the failing pair right of it and the lead turns negative.
+  region.decay_min = 0.0;
+  v = JudgePoles({C(-3, -6), C(-3, 6), C(-2, -1), C(-2, 1), C(-2.5, 0)}, region);
+  CHECK(v.meets);
+  CHECK(v.lead == doctest::Approx(1.0).epsilon(1e-15));
+  v = JudgePoles({C(-1, -2.5), C(-1, 2.5), C(-2, -1), C(-2, 1), C(-2.5, 0)}, region);
+  CHECK_FALSE(v.meets);
+  CHECK(v.failure == Failure::kZeta);
+  CHECK(v.lead == doctest::Approx(-1.0).epsilon(1e-15));
+}
+
+TEST_CASE("the band with poles followed along K equals the band with poles solved at each gain") {
+  // FindLocusBand follows the poles (lti/root_tracker.h) and skips intervals known unstable;
+  // BandFromCrossings with JudgeGain solves the companion eigenvalues at every judged gain and
+  // judges every interval. Our own loops with dead time (Pade 3), several specs each.
+  struct Case {
+    TransferFunction plant;
+    const char* controller;
+  };
+  const Polynomial lag2 = Polynomial({0.0625, 0.15, 1.0});
+  const Case cases[] = {
+      {TransferFunction(Polynomial({2.0}),
+                        lag2 * Polynomial({0.5, 1.0}) * Polynomial({0.3, 1.0}) *
+                            Polynomial({0.2, 1.0}) * Polynomial({0.1, 1.0}),
+                        0.3),
+       "pi:0.3"},
+      {TransferFunction(
+           Polynomial({0.36, 1.2}),
+           Polynomial({0.6, 1.0}) * Polynomial({0.09, 0.36, 1.0}) * Polynomial({1.0, 1.0}), 0.1),
+       "pid:0.5:2:20"},
+      {TransferFunction(Polynomial({1.5}), Polynomial({2.0, 1.0, 0.0}) * Polynomial({0.4, 1.0}),
+                        0.2),
+       "lead:1:6"},
+  };
+  Region regions[4];
+  regions[0].zeta_min = 0.45;
+  regions[1].zeta_min = 0.3;
+  regions[1].wn_min = 0.5;
+  regions[1].decay_min = 0.2;
+  regions[2].sigma_min = 0.3;
+  regions[2].wd_min = 0.4;
+  int edges = 0;
+  for (const Case& c : cases) {
+    LoopPolynomials loop = LoopPolynomials::ForGain(c.plant, Controller::Parse(c.controller), 3);
+    for (const Region& region : regions) {
+      LocusBand fast = FindLocusBand(loop, region);
+      LocusBand slow = BandFromCrossings(
+          AllCrossings(loop, region), [&](double k) { return JudgeGain(loop, region, k); }, 1.0,
+          region, 3);
+      REQUIRE(fast.intervals.size() == slow.intervals.size());
+      for (size_t i = 0; i < fast.intervals.size(); ++i) {
+        for (auto side : {&BandInterval::lo, &BandInterval::hi}) {
+          const BandEdge& f = fast.intervals[i].*side;
+          const BandEdge& s = slow.intervals[i].*side;
+          CHECK(f.boundary == s.boundary);
+          if (std::isfinite(s.gain) && s.gain > 0.0) {
+            CHECK(f.gain == doctest::Approx(s.gain).epsilon(1e-9));
+            CHECK(std::abs(f.dominant - s.dominant) <= 1e-7 * std::abs(s.dominant));
+            ++edges;
+          } else {
+            CHECK(f.gain == s.gain);
+          }
+        }
+      }
+    }
+  }
+  CHECK(edges >= 8);
 }
 
 }  // namespace
