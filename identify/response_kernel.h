@@ -20,8 +20,9 @@
 // where the closed form would cancel (tau1 = tau2, zeta = 1), so the derivatives stay exact there.
 //
 // On a uniform grid (every interval within 1e-6 of the mean period h) the two pieces of every
-// interval have the same lengths, (1 - phi) h and phi h with T = (m + phi) h, so their maps are
-// computed once per call and the cost is a few multiply-adds per sample.
+// interval have the same lengths, phi h and (1 - phi) h with T = (m + phi) h, so their maps are
+// computed once per call and composed into one map of the whole interval driven by the two
+// inputs (IntervalMap): the cost is a few multiply-adds per sample.
 #ifndef LOOPWRIGHT_IDENTIFY_RESPONSE_KERNEL_H_
 #define LOOPWRIGHT_IDENTIFY_RESPONSE_KERNEL_H_
 
@@ -171,6 +172,45 @@ template <Structure S, typename T>
   }
 }
 
+// One whole sample interval on a uniform grid: the piece with the older input u_old followed by
+// the piece with the newer input u_new, x <- M x + p u_old + q u_new with M = M2 M1, p = M2 g1
+// and q = g2 (formed once per call, so each sample costs one map instead of two).
+template <typename T>
+struct IntervalMap {
+  T m00, m01, m10, m11, p0, p1, q0, q1;
+};
+
+template <typename T>
+IntervalMap<T> Compose(const PieceMap<T>& a, const PieceMap<T>& b) {
+  // b after a: M = B A, p = B g_a, q = g_b.
+  return {b.m00 * a.m00 + b.m01 * a.m10,
+          b.m00 * a.m01 + b.m01 * a.m11,
+          b.m10 * a.m00 + b.m11 * a.m10,
+          b.m10 * a.m01 + b.m11 * a.m11,
+          b.m00 * a.g0 + b.m01 * a.g1,
+          b.m10 * a.g0 + b.m11 * a.g1,
+          b.g0,
+          b.g1};
+}
+
+template <Structure S, typename T>
+[[gnu::always_inline]] inline void ApplyInterval(const IntervalMap<T>& m, T& x1, T& x2,
+                                                 double u_old, double u_new) {
+  using Sh = Shape<S>;
+  if constexpr (!Sh::kX2) {
+    x1 = m.m00 * x1 + (m.p0 * u_old + m.q0 * u_new);
+  } else {
+    T n1 = m.m00 * x1 + (m.p0 * u_old + m.q0 * u_new);
+    if constexpr (Sh::kM01) n1 += m.m01 * x2;
+    if constexpr (Sh::kM11IsOne) {
+      x2 += m.m10 * x1 + (m.p1 * u_old + m.q1 * u_new);
+    } else {
+      x2 = m.m10 * x1 + m.m11 * x2 + (m.p1 * u_old + m.q1 * u_new);
+    }
+    x1 = n1;
+  }
+}
+
 template <Structure S, typename T, typename Emit>
 void Run(const T* dyn, const SampleGrid& grid, std::span<const double> v, bool zero_initial,
          Emit&& emit) {
@@ -188,13 +228,19 @@ void Run(const T* dyn, const SampleGrid& grid, std::span<const double> v, bool z
     const double h = grid.h;
     double m_real = std::floor(Scalar(delay) / h);
     long m = static_cast<long>(m_real);
-    T phi_h = delay - m_real * h;                             // in [0, h)
-    PieceMap<T> first = MakePieceMap(S, dyn, phi_h);          // input v[k - m - 1]
-    PieceMap<T> second = MakePieceMap(S, dyn, T(h) - phi_h);  // input v[k - m]
-    for (size_t k = 0; k + 1 < n; ++k) {
-      long i = static_cast<long>(k) - m;
-      Apply<S>(first, x1, x2, input(i - 1));
-      Apply<S>(second, x1, x2, input(i));
+    T phi_h = delay - m_real * h;                                             // in [0, h)
+    const IntervalMap<T> step = Compose(MakePieceMap(S, dyn, phi_h),          // input v[k - m - 1]
+                                        MakePieceMap(S, dyn, T(h) - phi_h));  // input v[k - m]
+    // While the delayed input is still the history value, then on the recorded values.
+    size_t k = 0;
+    for (; k + 1 < n && static_cast<long>(k) - m < 1; ++k) {
+      const long i = static_cast<long>(k) - m;
+      ApplyInterval<S>(step, x1, x2, input(i - 1), input(i));
+      emit(k + 1, x1, x2);
+    }
+    for (; k + 1 < n; ++k) {
+      const size_t i = k - static_cast<size_t>(m);  // >= 1 here
+      ApplyInterval<S>(step, x1, x2, v[i - 1], v[i]);
       emit(k + 1, x1, x2);
     }
     return;
