@@ -4,6 +4,7 @@
 #include <cmath>
 #include <numbers>
 #include <numeric>
+#include <span>
 
 #include "identify/two_point.h"
 
@@ -11,8 +12,8 @@ namespace lw {
 namespace {
 
 // Centred moving average over w samples (w odd), so crossings are not triggered by noise.
-std::vector<double> Smooth(const std::vector<double>& y, size_t w) {
-  if (w <= 1) return y;
+std::vector<double> Smooth(std::span<const double> y, size_t w) {
+  if (w <= 1) return {y.begin(), y.end()};
   const long half = static_cast<long>(w / 2), n = static_cast<long>(y.size());
   std::vector<double> out(y.size());
   std::vector<double> c(y.size() + 1, 0.0);
@@ -27,7 +28,8 @@ std::vector<double> Smooth(const std::vector<double>& y, size_t w) {
 
 struct FirstStep {
   double t_step = 0.0, t_end = 0.0, h = 0.0;
-  std::vector<double> t, y;  // the first step's segment, smoothed output
+  std::span<const double> t;  // the first step's segment (the recording's own instants)
+  std::vector<double> y;      // its smoothed output
 };
 
 FirstStep FirstSegment(const StepRecording& rec, const RecordingAnalysis& a) {
@@ -37,11 +39,9 @@ FirstStep FirstSegment(const StepRecording& rec, const RecordingAnalysis& a) {
   f.t_step = rec.t[i0];
   f.t_end = rec.t[i1 - 1];
   f.h = a.sample_period;
-  std::vector<double> y(rec.y.begin(), rec.y.begin() + static_cast<long>(i1));
   size_t w = std::max<size_t>(1, (i1 - i0) / 100) | 1;
-  y = Smooth(y, w);
-  f.t.assign(rec.t.begin(), rec.t.begin() + static_cast<long>(i1));
-  f.y = std::move(y);
+  f.y = Smooth(std::span<const double>(rec.y).first(i1), w);
+  f.t = std::span<const double>(rec.t).first(i1);
   return f;
 }
 

@@ -2,20 +2,15 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <numeric>
 #include <sstream>
 
+#include "identify/order_statistic.h"
 #include "lti/error.h"
 
 namespace lw {
 namespace {
-
-double Median(std::vector<double> v) {
-  if (v.empty()) return 0.0;
-  auto mid = v.begin() + static_cast<long>(v.size() / 2);
-  std::nth_element(v.begin(), mid, v.end());
-  return *mid;
-}
 
 double Mean(std::span<const double> v) {
   return v.empty() ? 0.0 : std::accumulate(v.begin(), v.end(), 0.0) / static_cast<double>(v.size());
@@ -63,11 +58,11 @@ void LongestRunAt(std::span<const double> y, std::span<const double> t, double l
 
 double DifferenceNoiseSd(std::span<const double> x) {
   if (x.size() < 3) return 0.0;
-  std::vector<double> d(x.size() - 1);
-  for (size_t i = 1; i < x.size(); ++i) d[i - 1] = x[i] - x[i - 1];
-  double med = Median(d);
-  for (double& v : d) v = std::abs(v - med);
-  return 1.4826 * Median(d) / std::sqrt(2.0);
+  // The differences are formed on the fly (no copy of the series).
+  const size_t n = x.size() - 1;
+  const double med = MedianOf(n, [&](size_t i) { return x[i + 1] - x[i]; });
+  return 1.4826 * MedianOf(n, [&](size_t i) { return std::abs((x[i + 1] - x[i]) - med); }) /
+         std::sqrt(2.0);
 }
 
 RecordingAnalysis AnalyseRecording(std::span<const double> t, std::span<const double> u,
@@ -84,17 +79,18 @@ RecordingAnalysis AnalyseRecording(std::span<const double> t, std::span<const do
   CheckFinite(u, "input");
   CheckFinite(y, "output");
   RecordingAnalysis a;
-  std::vector<double> dt(n - 1);
+  a.min_interval = std::numeric_limits<double>::infinity();
+  a.max_interval = 0.0;
   for (size_t i = 1; i < n; ++i) {
-    dt[i - 1] = t[i] - t[i - 1];
-    if (!(dt[i - 1] > 0.0)) {
+    const double dt = t[i] - t[i - 1];
+    if (!(dt > 0.0)) {
       throw DataError("time does not increase at sample " + std::to_string(i + 1) +
                       " (t = " + Num(t[i]) + " s after " + Num(t[i - 1]) + " s)");
     }
+    a.min_interval = std::min(a.min_interval, dt);
+    a.max_interval = std::max(a.max_interval, dt);
   }
-  a.sample_period = Median(dt);
-  a.min_interval = *std::min_element(dt.begin(), dt.end());
-  a.max_interval = *std::max_element(dt.begin(), dt.end());
+  a.sample_period = MedianOf(n - 1, [&](size_t i) { return t[i + 1] - t[i]; });
   const double mean_dt = (t[n - 1] - t[0]) / static_cast<double>(n - 1);
   a.uniform =
       a.max_interval - mean_dt <= 1e-6 * mean_dt && mean_dt - a.min_interval <= 1e-6 * mean_dt;
