@@ -51,6 +51,7 @@ CeresRun RunCeres(ceres::CostFunction* cost, std::vector<double>& x, const std::
   // on short ill-conditioned problems.
   so.linear_solver_type = residuals > 5000 ? ceres::DENSE_NORMAL_CHOLESKY : ceres::DENSE_QR;
   so.max_num_iterations = options.max_iterations;
+  so.initial_trust_region_radius = options.initial_trust_region_radius;
   so.function_tolerance = options.function_tolerance;
   so.parameter_tolerance = options.parameter_tolerance;
   so.gradient_tolerance = options.gradient_tolerance;

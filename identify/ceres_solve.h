@@ -22,6 +22,10 @@ struct SolveOptions {
   double parameter_tolerance = 1e-12;
   double gradient_tolerance = 1e-14;
   bool compute_covariance = true;
+  // Ceres' initial trust region radius (its default 1e4). A start known to be close to the
+  // optimum (the polish of a reduced fit) takes nearly undamped Gauss-Newton steps with a large
+  // radius instead of losing three digits of the remaining gap per iteration to the damping.
+  double initial_trust_region_radius = 1e4;
   // Output-error solves with more fitted samples than this run on the compressed Gauss-Newton
   // model (output_error.h): the same steps, O(p^2) memory instead of O(N p).
   size_t compress_above = 5000;

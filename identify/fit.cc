@@ -10,6 +10,7 @@
 #include <ceres/loss_function.h>
 #include <boost/math/distributions/students_t.hpp>
 
+#include "identify/order_statistic.h"
 #include "identify/output_error.h"
 #include "identify/starting_values.h"
 #include "identify/structure_selection.h"
@@ -19,6 +20,9 @@ namespace lw {
 namespace {
 
 constexpr double kInf = std::numeric_limits<double>::infinity();
+// The trust region radius for solves that start from a reduced problem's optimum (see
+// SolveOptions::initial_trust_region_radius).
+constexpr double kNearRadius = 1e10;
 
 std::string Num(double v, int digits = 4) {
   std::ostringstream o;
@@ -27,12 +31,8 @@ std::string Num(double v, int digits = 4) {
   return o.str();
 }
 
-double MedianAbs(std::vector<double> r) {
-  if (r.empty()) return 0.0;
-  for (double& v : r) v = std::abs(v);
-  auto mid = r.begin() + static_cast<long>(r.size() / 2);
-  std::nth_element(r.begin(), mid, r.end());
-  return *mid;
+double MedianAbs(const std::vector<double>& r) {
+  return MedianOf(r.size(), [&](size_t i) { return std::abs(r[i]); });
 }
 
 // Bounds in the full layout (see fit.h for the rules).
@@ -71,8 +71,8 @@ void Bounds(Structure s, double h, double d, std::vector<double>& lo, std::vecto
   hi[DeadTimeIndex(s)] = 0.9 * d;
 }
 
-// The data of one output-error problem; with stride 1 time and output are the recording's own
-// (no copy), only the input deviation is new.
+// The data of one output-error problem: time and output are the recording's own (no copy) on
+// every sample, or a reduced record's (Reduce); the input deviation is always new.
 struct Prepared {
   std::vector<double> t_own, v, y_own, w;
   std::span<const double> t, y;
@@ -86,23 +86,43 @@ struct Prepared {
   }
 };
 
-Prepared Prepare(const StepRecording& rec, double u_base, size_t stride) {
+// Every sample of the recording.
+Prepared Prepare(const StepRecording& rec, double u_base) {
   Prepared p;
-  const size_t kept = (rec.t.size() + stride - 1) / stride;
+  p.v.resize(rec.u.size());
+  for (size_t i = 0; i < rec.u.size(); ++i) p.v[i] = rec.u[i] - u_base;
+  p.t = rec.t;
+  p.y = rec.y;
+  return p;
+}
+
+// The reduced problem for the multi-start: blocks of `block` samples, the first block starting
+// at the first step (so the step is exact), each represented by its first instant with the
+// block's mean input held over it and the mean output over a window of the same length centred
+// on that instant. The model starts from rest at the baseline (zero state). The samples before
+// the first block boundary at or before the first window are left out.
+Prepared Reduce(const StepRecording& rec, const RecordingAnalysis& a, size_t block) {
+  Prepared p;
+  const size_t n = rec.t.size();
+  const size_t first = a.steps.front() % block;
+  const size_t half = block / 2;
+  const size_t kept = (n - first + block - 1) / block;
+  p.t_own.reserve(kept);
+  p.y_own.reserve(kept);
   p.v.reserve(kept);
-  if (stride > 1) {
-    p.t_own.reserve(kept);
-    p.y_own.reserve(kept);
+  for (size_t g = first; g < n; g += block) {
+    const size_t v_end = std::min(n, g + block);
+    double vs = 0.0;
+    for (size_t i = g; i < v_end; ++i) vs += rec.u[i];
+    const size_t y_begin = g >= half ? g - half : 0, y_end = std::min(n, g + block - half);
+    double ys = 0.0;
+    for (size_t i = y_begin; i < y_end; ++i) ys += rec.y[i];
+    p.t_own.push_back(rec.t[g]);
+    p.v.push_back(vs / static_cast<double>(v_end - g) - a.input_baseline);
+    p.y_own.push_back(ys / static_cast<double>(y_end - y_begin));
   }
-  for (size_t i = 0; i < rec.t.size(); i += stride) {
-    if (stride > 1) {
-      p.t_own.push_back(rec.t[i]);
-      p.y_own.push_back(rec.y[i]);
-    }
-    p.v.push_back(rec.u[i] - u_base);
-  }
-  p.t = stride > 1 ? std::span<const double>(p.t_own) : std::span<const double>(rec.t);
-  p.y = stride > 1 ? std::span<const double>(p.y_own) : std::span<const double>(rec.y);
+  p.t = p.t_own;
+  p.y = p.y_own;
   return p;
 }
 
@@ -144,22 +164,55 @@ SolveReport Reweight(Prepared& data, Structure s, SolveReport report,
   return report;
 }
 
-// The multi-start on at most options.start_samples samples (no covariance).
+// The block length that reduces n samples to about `points` blocks, and to at least 20 blocks
+// per input step (at most 10 `points` in all) so a square wave keeps its shape; odd, so that
+// each output window is centred on its instant; 1 keeps every sample.
+size_t BlockLength(size_t n, size_t points, const RecordingAnalysis& a) {
+  points = std::max(points, std::min(20 * a.steps.size(), 10 * points));
+  const size_t block = std::max<size_t>(1, (n + points - 1) / points);
+  return block > 1 ? block | 1 : 1;
+}
+
+// One output-error problem on the blocks of `block` samples (Reduce), or on every sample.
+struct ReducedProblem {
+  Prepared data;
+  OutputErrorProblem problem;
+  ReducedProblem(const StepRecording& rec, const RecordingAnalysis& a, Structure s, size_t block)
+      : data(block > 1 ? Reduce(rec, a, block) : Prepare(rec, a.input_baseline)),
+        problem(data.problem()) {
+    problem.structure = s;
+    problem.zero_initial = block > 1;
+  }
+};
+
+// The multi-start on at most options.start_samples block means (no covariance). With `refine`
+// and a record much longer than that, the best start is then carried to a finer reduction
+// (fit.h), so the polish on every sample starts within a few hundredths
+// of a standard deviation of its optimum and needs only two or three iterations.
 SolveReport CoarseFit(Structure s, const StepRecording& rec, const RecordingAnalysis& a,
                       const FitOptions& options, const std::vector<double>& seed,
                       const std::vector<bool>& fixed, const std::vector<double>& lo,
-                      const std::vector<double>& hi) {
+                      const std::vector<double>& hi, bool refine) {
   const size_t n = rec.t.size();
-  const size_t stride =
-      std::max<size_t>(1, (n + options.start_samples - 1) / options.start_samples);
-  Prepared coarse = Prepare(rec, a.input_baseline, stride);
   SolveOptions so;
   so.max_iterations = 50;
   so.compute_covariance = false;
   so.compress_above = 0;  // starting points only: the compressed model at every size
-  OutputErrorProblem cpb = coarse.problem();
-  cpb.structure = s;
-  return SolveMultiStart(cpb, StartingValues(s, rec, a, seed), fixed, lo, hi, so);
+  SolveReport best;
+  {
+    ReducedProblem coarse(rec, a, s, BlockLength(n, options.start_samples, a));
+    best = SolveMultiStart(coarse.problem, StartingValues(s, rec, a, seed), fixed, lo, hi, so);
+  }
+  const size_t finer = std::max<size_t>(
+      10 * options.start_samples,
+      static_cast<size_t>(std::sqrt(static_cast<double>(n) * options.start_samples)));
+  if (refine && n >= 64 * options.start_samples && std::isfinite(best.rss)) {
+    ReducedProblem fine(rec, a, s, BlockLength(n, finer, a));
+    so.initial_trust_region_radius = kNearRadius;
+    SolveReport r = SolveOutputError(fine.problem, best.x, fixed, lo, hi, so);
+    if (std::isfinite(r.rss)) best = std::move(r);
+  }
+  return best;
 }
 
 // Starting values for a richer structure from a simpler one fitted on the thinned copy only.
@@ -171,7 +224,7 @@ FitResult SeedFit(Structure s, const StepRecording& rec, const RecordingAnalysis
   fixed[DriftIndex(s)] = s != Structure::kIntegrating;
   std::vector<double> seed;
   if (s == Structure::kSopdt) seed = SeedFit(Structure::kFopdt, rec, a, options).values;
-  SolveReport r = CoarseFit(s, rec, a, options, seed, fixed, lo, hi);
+  SolveReport r = CoarseFit(s, rec, a, options, seed, fixed, lo, hi, false);
   FitResult f;
   f.structure = s;
   f.values.assign(r.x.begin(), r.x.begin() + ParameterCount(s));
@@ -220,12 +273,13 @@ FitResult FitStructure(Structure s, const StepRecording& rec, const RecordingAna
   fixed[DriftIndex(s)] = s != Structure::kIntegrating;
 
   // Multi-start on a thinned copy, then the polish on every sample.
-  SolveReport best =
-      CoarseFit(s, rec, a, options, seed ? seed->values : std::vector<double>{}, fixed, lo, hi);
+  SolveReport best = CoarseFit(s, rec, a, options, seed ? seed->values : std::vector<double>{},
+                               fixed, lo, hi, true);
   SolveOptions so;
   so.max_iterations = options.max_iterations;
   so.compute_covariance = true;
-  Prepared full = Prepare(rec, a.input_baseline, 1);
+  so.initial_trust_region_radius = kNearRadius;
+  Prepared full = Prepare(rec, a.input_baseline);
   OutputErrorProblem fpb = full.problem();
   fpb.structure = s;
   SolveReport report = SolveOutputError(fpb, best.x, fixed, lo, hi, so);

@@ -15,6 +15,8 @@
 // augmented normal matrix [J r]'[J r] and gives Ceres m + 1 residuals with the same cost,
 // gradient and J'J (m free parameters), so Ceres takes the same Levenberg-Marquardt steps
 // without an N x m array; the J'J of the last accepted point is reused for the covariance.
+// fit.h uses this as the polish of a fit first solved on a reduced record: from there two to
+// four such passes reach Ceres' tolerances on every sample.
 //
 // The covariance of x is Ceres' (J'J)^-1 (ceres::Covariance, dense SVD) scaled by the residual
 // variance s^2 = RSS / (n - p) with p the number of free parameters. To keep memory at O(p^2)
