@@ -2,6 +2,7 @@
 
 #include <cmath>
 #include <limits>
+#include <utility>
 
 #include <ceres/ceres.h>
 
@@ -73,7 +74,11 @@ CurveFitResult FitCurve(std::span<const double> x, std::span<const double> y,
   const long dof = static_cast<long>(x.size()) - p;
   if (!options.compute_covariance || !run.usable || dof <= 0) return result;
   std::vector<std::string> names;
-  for (int j = 0; j < p; ++j) names.push_back("b" + std::to_string(j + 1));
+  for (int j = 0; j < p; ++j) {
+    std::string name = std::to_string(j + 1);  // "b" + to_string trips GCC 12's -Wrestrict
+    name.insert(name.begin(), 'b');
+    names.push_back(std::move(name));
+  }
   CurveCost probe(x, y, f, p);
   result.rank_deficiency = DescribeRankDeficiency(probe.Normal(result.b), fixed, names);
   Eigen::MatrixXd c;
