@@ -56,6 +56,9 @@ class DelayedLoop {
 
   static constexpr int kSmooth = 1 << 20;
 
+  // The hold blocks (degree 3) of a step part of length `length`, from the loop's cache.
+  const HoldBlocks& Blocks(double length) { return cache_.Get(length); }
+
   // The last `count` stored pieces, oldest first, as cubics in sigma = (t - start) / h (the form
   // steady_delayed_loop.h takes), when they are contiguous steps of length h (to 1e-9 h) ending
   // at t, none of them non-smooth enough to split a later step; false otherwise.

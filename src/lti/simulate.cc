@@ -314,7 +314,10 @@ ClosedLoopResponse SimulateClosedLoop(const TransferFunction& plant, const Contr
   for (size_t k = 0; k < n; ++k) {
     if (steady_tries > 0 && k >= last_switch && t[k] >= steady_from) {
       --steady_tries;
-      if (!steady) steady.emplace(m, delay, steady_step);
+      if (!steady) {
+        steady.emplace(m, delay, steady_step,
+                       [&](double len) -> const HoldBlocks& { return loop.Blocks(len); });
+      }
       if (!steady->usable()) {
         steady_tries = 0;
       } else if (loop.SteadyHistory(t[k], steady_step, steady->history(), history)) {

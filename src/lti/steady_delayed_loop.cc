@@ -2,8 +2,6 @@
 
 #include <cmath>
 
-#include "lti/zoh.h"
-
 namespace lw {
 namespace {
 
@@ -23,7 +21,8 @@ RowVectorXd PieceAt(int cols, int slot, double sigma) {
 
 }  // namespace
 
-SteadyDelayedLoop::SteadyDelayedLoop(const LoopModel& m, double delay, double h) {
+SteadyDelayedLoop::SteadyDelayedLoop(const LoopModel& m, double delay, double h,
+                                     const std::function<const HoldBlocks&(double)>& blocks) {
   double whole = std::floor(delay / h);
   double f = delay / h - whole;  // phi / h
   if (f < 1e-9) f = 0.0;
@@ -74,7 +73,7 @@ SteadyDelayedLoop::SteadyDelayedLoop(const LoopModel& m, double delay, double h)
         binom = binom * (j - k) / (k + 1);
       }
     }
-    const HoldBlocks hb = ExactHold(m.a, m.b, len, 3);
+    const HoldBlocks& hb = blocks(len);
     MatrixXd w_in(n_, 4);
     for (int k = 0; k < 4; ++k) w_in.col(k) = hb.gamma[static_cast<size_t>(k)].col(1);
     MatrixXd next = hb.phi * zmap + hb.gamma[0].col(0) * e_r;

@@ -19,11 +19,13 @@
 
 #include <array>
 #include <cstddef>
+#include <functional>
 #include <vector>
 
 #include <Eigen/Dense>
 
 #include "lti/delayed_loop.h"
+#include "lti/zoh.h"
 
 namespace lw {
 
@@ -33,7 +35,10 @@ class SteadyDelayedLoop {
 
   // delay T > 0 and step h > 0. usable() is false when h is longer than T (such steps read
   // their own u: DelayedLoop's implicit steps); phi within 1e-9 h of 0 or h counts as 0.
-  SteadyDelayedLoop(const LoopModel& m, double delay, double h);
+  // `blocks` gives the degree-3 hold blocks of m for a part's length (DelayedLoop::Blocks, so
+  // the parts the loop has already stepped reuse its blocks).
+  SteadyDelayedLoop(const LoopModel& m, double delay, double h,
+                    const std::function<const HoldBlocks&(double)>& blocks);
 
   bool usable() const { return usable_; }
   // How many stored pieces Run needs: M + 1, those of the steps before the first one.
