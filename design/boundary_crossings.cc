@@ -101,6 +101,8 @@ const char* BoundaryName(Boundary b) {
       return "pole at infinity";
     case Boundary::kDominanceSwitch:
       return "dominance switch";
+    case Boundary::kBreakaway:
+      return "breakaway point";
   }
   return "?";
 }
@@ -127,6 +129,8 @@ const char* BoundaryKey(Boundary b) {
       return "pole_at_infinity";
     case Boundary::kDominanceSwitch:
       return "dominance_switch";
+    case Boundary::kBreakaway:
+      return "breakaway";
   }
   return "?";
 }

@@ -44,9 +44,10 @@ enum class Boundary {
   kDecayLine,        // Re s = -decay_min (non-dominant poles)
   kPoleAtInfinity,   // lead(a) + K lead(b) = 0
   kDominanceSwitch,  // two poles with equal real part trade the dominant role (gain_band.h)
+  kBreakaway,        // two real poles meet and leave as a pair, or the reverse (locus.h)
 };
 // "K = 0", "unbounded", "imaginary axis", "wn circle", "zeta ray", "sigma line", "wd line",
-// "decay line", "pole at infinity", "dominance switch".
+// "decay line", "pole at infinity", "dominance switch", "breakaway point".
 const char* BoundaryName(Boundary b);
 // A short key for JSON: "gain_zero", "unbounded", "imaginary_axis", "wn_circle", ...
 const char* BoundaryKey(Boundary b);

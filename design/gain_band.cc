@@ -4,6 +4,7 @@
 #include <cmath>
 #include <limits>
 
+#include "design/locus.h"
 #include "lti/root_tracker.h"
 
 namespace lw {
@@ -109,17 +110,27 @@ GainSet LocusBand::gains() const {
 
 namespace {
 
-// BandFromCrossings; with `axis_complete` (the crossings hold every gain where a pole is on
-// the imaginary axis or at infinity, as AllCrossings' exact roots do), an interval that follows
-// an unstable one across any other cut is unstable too, and is not judged.
+// BandFromCrossings; with `exact_cuts` (the crossings hold every gain where a pole is on the
+// imaginary axis or at infinity, as AllCrossings' exact roots do, and with a decay floor every
+// breakaway point), an interval that follows an unstable one across any other cut is unstable
+// too, and is not judged, and the lead alone sets the steps. Without, with a decay floor, the
+// steps also keep the gap between the dominant pole and the next (pole_verdict.h) from closing
+// unseen, as two real poles meeting would.
 LocusBand Band(std::vector<BoundaryCrossing> crossings,
                const std::function<PoleVerdict(double)>& judge, double ref, const Region& region,
-               int pade_order, bool axis_complete);
+               int pade_order, bool exact_cuts);
 
 }  // namespace
 
 LocusBand FindLocusBand(const LoopPolynomials& loop, const Region& region) {
   std::vector<BoundaryCrossing> crossings = AllCrossings(loop, region);
+  if (region.decay_min > 0.0) {
+    // With a decay floor the verdict also depends on which pole is the dominant one's conjugate
+    // (pole_verdict.h), and that changes where two real poles meet: cut there too.
+    for (const LocusPoint& b : BreakawayPoints(loop)) {
+      crossings.push_back({b.gain, Boundary::kBreakaway, Complex(b.s, 0.0)});
+    }
+  }
   double ref = 1.0;  // only used without crossings
   if (crossings.empty()) {
     Complex s(0.0, loop.FrequencyScale());
@@ -143,7 +154,7 @@ namespace {
 
 LocusBand Band(std::vector<BoundaryCrossing> crossings,
                const std::function<PoleVerdict(double)>& judge, double ref, const Region& region,
-               int pade_order, bool axis_complete) {
+               int pade_order, bool exact_cuts) {
   LocusBand band;
   band.region = region;
   band.pade_order = pade_order;
@@ -175,7 +186,7 @@ LocusBand Band(std::vector<BoundaryCrossing> crossings,
   bool unstable = false;  // the last judged gain had an unstable pole
   for (size_t i = 0; i + 1 < bounds.size(); ++i) {
     double lo = bounds[i].gain, hi = bounds[i + 1].gain;
-    if (axis_complete && unstable && i > 0 && !axis[i - 1]) {
+    if (exact_cuts && unstable && i > 0 && !axis[i - 1]) {
       // No pole crossed the imaginary axis or infinity at this cut: still unstable.
       pieces.push_back({lo, hi, false, bounds[i], bounds[i + 1]});
       continue;
@@ -244,6 +255,17 @@ LocusBand Band(std::vector<BoundaryCrossing> crossings,
         }
       } else {
         step = 0.7;
+      }
+      if (!exact_cuts && region.decay_min > 0.0 && std::isfinite(cur.gap) &&
+          std::isfinite(prev.gap)) {
+        const double gap_slope = std::abs(cur.gap - prev.gap) / (x1 - x);
+        if (cur.gap < prev.gap && gap_slope > 0.0) {
+          const double g = std::clamp(cur.gap / (3.0 * gap_slope), 1e-5, 0.7);
+          if (g < step) {
+            step = g;
+            expect_switch = false;
+          }
+        }
       }
       const double scale = std::max(1e-12, std::abs(cur.dominant.real()));
       if (std::isfinite(d_cur) && d_cur < 1e-9 * scale) {

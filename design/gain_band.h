@@ -3,7 +3,10 @@
 //
 // Method (no sweep over K):
 //  1. every gain where some closed-loop pole lies on a region boundary, from
-//     boundary_crossings.h (exact roots of one real polynomial per boundary curve);
+//     boundary_crossings.h (exact roots of one real polynomial per boundary curve), and with a
+//     decay floor also every breakaway point of the locus (locus.h): there two real poles turn
+//     into a pair or back, which changes the pole exempt from the decay test as the dominant
+//     one's conjugate (pole_verdict.h);
 //  2. between two consecutive such gains no pole crosses a boundary, so each pole keeps whether
 //     it would pass as the dominant one, and the verdict can change only where the dominant
 //     role passes between a passing and a failing pole (two poles with equal real parts, e.g.

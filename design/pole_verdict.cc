@@ -77,7 +77,7 @@ PoleVerdict JudgePoles(const std::vector<std::complex<double>>& poles, const Reg
     return others_slow == 0;
   };
   double best_pass = -inf, best_fail = -inf;
-  size_t passing = 0;
+  size_t passing = 0, inside = 0;
   for (size_t i = 0; i < n; ++i) {
     if (passes(i)) {
       ++passing;
@@ -85,14 +85,29 @@ PoleVerdict JudgePoles(const std::vector<std::complex<double>>& poles, const Reg
     } else {
       best_fail = std::max(best_fail, poles[i].real());
     }
+    inside += InsideBounds(poles[i], region);
   }
   v.lead = passing == n ? inf : (passing == 0 ? -inf : best_pass - best_fail);
+  {
+    const double tol = 1e-9 * std::max(1.0, std::abs(s));
+    bool conj_seen = s.imag() == 0.0;
+    double next = -inf;
+    for (size_t i = 0; i < n; ++i) {
+      if (i == dom) continue;
+      if (!conj_seen && std::abs(poles[i] - std::conj(s)) <= tol) {
+        conj_seen = true;
+        continue;
+      }
+      next = std::max(next, poles[i].real());
+    }
+    v.gap = s.real() - next;
+  }
   if (s.real() >= 0.0) {
     v.failure = Failure::kUnstable;
     v.uniform = true;
     return v;
   }
-  v.uniform = passing == 0 || passing == n;
+  v.uniform = inside == 0 || (inside == n && slow == 0);
   const PoleShape& p = v.shape;
   if (p.wn < region.wn_min)
     v.failure = Failure::kWn;

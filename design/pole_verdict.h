@@ -30,13 +30,20 @@ struct PoleVerdict {
   //   lead = max Re over the passing poles - max Re over the others
   // (+inf when every pole passes, -inf when none does), and for a stable loop meets == (lead > 0)
   // (lead == 0 is a tie, decided as the dominant pole is). Between two boundary crossings each
-  // pole keeps its side of every boundary, hence whether it passes, so lead is continuous in the
-  // gain there and a dominance switch that changes the verdict is a zero of it (gain_band.h).
+  // pole keeps its side of every boundary, hence whether it passes (with a decay floor, also
+  // between the breakaway points of the locus, where a real pair of poles turns complex or
+  // back and so which pole is whose conjugate changes), so lead is continuous in the gain there
+  // and a dominance switch that changes the verdict is a zero of it (gain_band.h).
   double lead = 0.0;
+  // Re(dominant) - Re(the next pole that is not the dominant one or its conjugate), >= 0: how
+  // far the dominant role is from changing hands at all; +inf with a single real pole or pair.
+  double gap = 0.0;
   // True when the verdict does not depend on which pole is dominant: some pole is unstable, or
-  // no pole passes, or every pole does (lead is infinite). Between two boundary crossings each
-  // pole keeps whether it passes, so then the verdict holds until the next crossing and no
-  // dominance switch can change it.
+  // no pole lies inside the dominant-pole bounds, or every pole does and every pole meets
+  // decay_min. Between two boundary crossings each pole keeps its side of every boundary, so
+  // then the verdict holds until the next crossing and no dominance switch can change it. (Not
+  // "no pole passes": with a decay floor, whether a pole passes also depends on which pole is
+  // its conjugate, and that changes where two real poles meet and leave as a pair.)
   bool uniform = false;
 };
 

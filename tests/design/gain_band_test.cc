@@ -211,12 +211,17 @@ TEST_CASE("the verdict's lead: passing poles minus failing ones, by hand") {
   CHECK(v.lead == doctest::Approx(1.6).epsilon(1e-15));
   CHECK_FALSE(v.uniform);
   // A second slow pole, -0.6: whichever pole dominates, a non-dominant one is slow, so nothing
-  // passes: lead -inf, uniform, and the verdict fails on decay (-0.4 dominant, -0.6 slow).
+  // passes: lead -inf, and the verdict fails on decay (-0.4 dominant, -0.6 slow). Not uniform:
+  // the two slow real poles may meet and leave as a pair, which would then pass.
   v = JudgePoles({C(-3, -6), C(-3, 6), C(-2, -1), C(-2, 1), C(-0.6, 0), C(-0.4, 0)}, region);
   CHECK_FALSE(v.meets);
   CHECK(v.failure == Failure::kDecay);
   CHECK(v.lead == -std::numeric_limits<double>::infinity());
-  CHECK(v.uniform);
+  CHECK_FALSE(v.uniform);
+  // They have met: the pair -0.5 +/- 0.1j (zeta 0.98) passes, its conjugate being exempt.
+  v = JudgePoles({C(-3, -6), C(-3, 6), C(-2, -1), C(-2, 1), C(-0.5, -0.1), C(-0.5, 0.1)}, region);
+  CHECK(v.meets);
+  CHECK(v.lead == doctest::Approx(1.5).epsilon(1e-15));
   // Without the decay floor every pole but the zeta-0.45 pair passes: lead = -2 - (-3) = 1 with
   // the pair -2 +/- 1j dominant; move the failing pair right of it and the lead turns negative.
   region.decay_min = 0.0;
@@ -285,6 +290,42 @@ TEST_CASE("the band with poles followed along K equals the band with poles solve
     }
   }
   CHECK(edges >= 8);
+}
+
+}  // namespace
+}  // namespace lw
+
+namespace lw {
+namespace {
+
+TEST_CASE("with a decay floor, two slow real poles meeting start the band at the breakaway") {
+  // Our own: 1/((s + 0.3)(s + 0.8)(s + 5)) under P control, zeta >= 0.7, every non-dominant pole
+  // with -Re s >= 1. Below the breakaway the two slow real poles each fail as the other's
+  // non-dominant neighbour; from it on they are a pair whose conjugate is exempt. The breakaway
+  // by hand: a = s^3 + 6.1 s^2 + 5.74 s + 1.2, a' = 3 s^2 + 12.2 s + 5.74 = 0 gives
+  // s = (-12.2 + sqrt(79.96)) / 6, and K = -a(s) there.
+  LoopPolynomials loop = Loop({1.0}, {1.0, 6.1, 5.74, 1.2});
+  Region region;
+  region.zeta_min = 0.7;
+  region.decay_min = 1.0;
+  const double s = (-12.2 + std::sqrt(79.96)) / 6.0;
+  const double k = -(((s + 6.1) * s + 5.74) * s + 1.2);
+  LocusBand band = FindLocusBand(loop, region);
+  REQUIRE(band.intervals.size() == 1);
+  const BandInterval& iv = band.intervals[0];
+  CHECK(iv.lo.boundary == Boundary::kBreakaway);
+  CHECK(iv.lo.gain == doctest::Approx(k).epsilon(1e-12));
+  CHECK(iv.lo.pole.real() == doctest::Approx(s).epsilon(1e-12));
+  CHECK(iv.hi.boundary == Boundary::kZetaRay);
+  CHECK(ShapeOf(iv.hi.pole).zeta == doctest::Approx(0.7).epsilon(1e-12));
+  CHECK_FALSE(JudgeGain(loop, region, k * 0.999).meets);
+  CHECK(JudgeGain(loop, region, k * 1.001).meets);
+  // Without the floor the band starts at K = 0 and ends at the same zeta edge.
+  region.decay_min = 0.0;
+  LocusBand plain = FindLocusBand(loop, region);
+  REQUIRE(plain.intervals.size() == 1);
+  CHECK(plain.intervals[0].lo.gain == 0.0);
+  CHECK(plain.intervals[0].hi.gain == doctest::Approx(iv.hi.gain).epsilon(1e-12));
 }
 
 }  // namespace
