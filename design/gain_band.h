@@ -61,7 +61,7 @@ struct LocusBand {
   Region region;
   int pade_order = 0;  // from the loop: the dead time's approximant order, 0 without dead time
   std::vector<BandInterval> intervals;      // the band, sorted, disjoint
-  std::vector<BoundaryCrossing> crossings;  // every boundary gain found, sorted
+  std::vector<BoundaryCrossing> crossings;  // every cut (step 1 above), sorted
   GainSet gains() const;                    // intervals as [lo, hi] ranges
   bool empty() const { return intervals.empty(); }
 };
