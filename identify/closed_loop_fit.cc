@@ -424,12 +424,50 @@ ClosedLoopFit FitClosedLoop(const ClosedLoopRecording& rec, const ClosedLoopFitO
   FitOptions fo;
   fo.input_unit = options.input_unit;
   fo.output_unit = options.output_unit;
-  const StepRecording open{rec.t, rec.u, rec.y};
-  // "auto": the structure the open-loop start chose by AICc, polished in the loop. (Polishing
-  // every structure in the loop was tried and can take minutes: candidates whose loop is barely
-  // stable need many internal steps per simulation.)
   fo.structure = options.structure;
-  return PolishInLoop(rec, options, Identify(open, fo), first_move);
+  const StepRecording open{rec.t, rec.u, rec.y};
+  Identification first = Identify(open, fo);
+  if (options.structure != "auto") return PolishInLoop(rec, options, std::move(first), first_move);
+
+  // "auto": every structure the open-loop fit could use, each started from its own open-loop
+  // fit and polished in the loop; the smallest output-channel AICc wins.
+  std::vector<Candidate> candidates = first.candidates;
+  std::vector<double> criterion(candidates.size(), kInf);
+  std::vector<bool> usable(candidates.size(), false);
+  std::vector<ClosedLoopFit> fits(candidates.size());
+  for (size_t i = 0; i < candidates.size(); ++i) {
+    Candidate& c = candidates[i];
+    if (!c.usable) continue;
+    try {
+      fo.structure = std::string(StructureName(c.structure));
+      Identification start = c.structure == first.model.structure ? first : Identify(open, fo);
+      fits[i] = PolishInLoop(rec, options, std::move(start), first_move);
+    } catch (const JobFailed& e) {
+      c.usable = false;
+      c.note = std::string("not usable in the loop: ") + e.what();
+      continue;
+    }
+    const FitResult& m = fits[i].model;
+    c.fit_percent = m.fit_percent;
+    c.residual_rms = m.residual_rms;
+    c.aicc = m.aicc;
+    c.free_parameters = m.free_parameters;
+    criterion[i] = m.aicc;
+    usable[i] = true;
+  }
+  const int chosen = SelectMinimum(criterion, usable);
+  if (chosen < 0) {
+    throw JobFailed("no structure could be fitted inside the loop with controller " +
+                    options.controller.ToString() + " at K = " + Num(options.gain) +
+                    ": check --controller and --gain");
+  }
+  for (size_t i = 0; i < candidates.size(); ++i) {
+    if (usable[i]) candidates[i].delta_aicc = criterion[i] - criterion[chosen];
+  }
+  ClosedLoopFit out = std::move(fits[chosen]);
+  out.automatic = true;
+  out.candidates = std::move(candidates);
+  return out;
 }
 
 }  // namespace lw

@@ -72,8 +72,7 @@ run "$bin" fit "$here/heater_zone_after_rework.csv" --compare "$out/heater_zone_
 echo "new model file: heater_zone_rework_model.json (its details hold the comparison)"
 
 banner "fit the plant inside the loop from the closed-loop recording (PI 1.2 (s + 0.005)/s)"
-run "$bin" fit "$here/heater_zone_closed_loop.csv" --closed-loop --controller pi:0.005 --gain 1.2 \
-  --structure sopdt
+run "$bin" fit "$here/heater_zone_closed_loop.csv" --closed-loop --controller pi:0.005 --gain 1.2
 
 # ---- check the model against the closed-loop recording ----
 banner "check the model against the zone's closed-loop recording (PI 1.2 (s + 0.005)/s, heater 0-100 %)"

@@ -273,6 +273,8 @@ class FitCommand : public Command {
         co.output_unit = options.output_unit;
         loop_fit = FitClosedLoop(ClosedLoopRecording{rec.t, rec.r, rec.u, rec.y}, co);
         id.model = loop_fit->model;
+        id.automatic = loop_fit->automatic;
+        id.candidates = loop_fit->candidates;
         id.analysis = loop_fit->start.analysis;
         id.samples_in = rec.t.size();
         id.warnings = loop_fit->warnings;

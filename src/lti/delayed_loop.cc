@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 
 namespace lw {
 namespace {
@@ -143,7 +144,12 @@ bool DelayedLoop::Implicit(Eigen::VectorXd& z, double a, double b, double r, dou
 
 std::array<double, 4> DelayedLoop::Integrate(Eigen::VectorXd& z, double a, double b, double r,
                                              double u0) {
-  const double len = b - a, tol = 1e-10 * len;
+  // The tolerance is at least a few rounding units of the times involved: a delayed piece end
+  // p.end + T may round onto `now` while now - T still rounds below p.end (a dead time within
+  // a hair of a whole number of samples), which would otherwise be a segment of length 0.
+  const double len = b - a;
+  const double tol = std::max(1e-10 * len, 8.0 * std::numeric_limits<double>::epsilon() *
+                                               std::max({std::abs(a), std::abs(b), delay_}));
   std::array<double, 4> nodes{u0, 0.0, 0.0, 0.0};
   double now = a;
   for (int i = 1; i <= 3; ++i) {
@@ -157,6 +163,10 @@ std::array<double, 4> DelayedLoop::Integrate(Eigen::VectorXd& z, double a, doubl
       double seg_end = std::min(target, p.end + delay_);
       // The newest piece may be extrapolated by rounding (a step a hair longer than T).
       if (seg_end > target - tol || cursor_ + 1 == pieces_.size()) seg_end = target;
+      if (seg_end <= now + tol) {  // this piece's image ends here: read the next one
+        ++cursor_;
+        continue;
+      }
       const Cubic w = Shift(p.coef, now - delay_ - p.start);
       const double l = seg_end - now;
       const HoldBlocks& hb = cache_.Get(l);

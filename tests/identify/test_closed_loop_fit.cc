@@ -7,8 +7,11 @@
 // against scipy in tests/reference/closed_loop_fit.py.
 #include <doctest/doctest.h>
 
+#include <algorithm>
 #include <cmath>
+#include <limits>
 #include <random>
+#include <string>
 #include <vector>
 
 #include "identify/closed_loop_fit.h"
@@ -48,6 +51,21 @@ lw::ClosedLoopFitOptions Options(double gain) {
   return o;
 }
 
+// The largest |yhat - closed form| of the fitted loop (noise-free truth of FirstOrderLoop).
+double WorstOutputError(const lw::ClosedLoopFit& fit, const lw::ClosedLoopRecording& rec) {
+  const lw::ClosedLoopResponse pred =
+      lw::ClosedLoopPrediction(fit.model.tf, lw::Controller(), 2.5, rec.t, rec.r,
+                               fit.model.output_offset.value, fit.model.input_baseline);
+  const double kc = 2.5 * 1.8 / (1.0 + 2.5 * 1.8), tc = 12.0 / (1.0 + 2.5 * 1.8);
+  double worst = 0.0;
+  for (size_t k = 0; k < rec.t.size(); ++k) {
+    const double t = rec.t[k];
+    const double truth = t > 5.0 ? 40.0 + 5.0 * kc * (1.0 - std::exp(-(t - 5.0) / tc)) : 40.0;
+    worst = std::max(worst, std::abs(pred.y[k] - truth));
+  }
+  return worst;
+}
+
 }  // namespace
 
 TEST_CASE("closed-loop fit recovers a first-order plant under P control (closed form)") {
@@ -68,18 +86,8 @@ TEST_CASE("closed-loop fit recovers a first-order plant under P control (closed 
   CHECK(fit.output_sd == doctest::Approx(0.05).epsilon(0.2));
   CHECK(fit.model.fit_percent > 80.0);
   CHECK(fit.input_fit_percent > 80.0);
-  // Both channels are reproduced by the fitted loop.
-  lw::ClosedLoopResponse pred =
-      lw::ClosedLoopPrediction(fit.model.tf, lw::Controller(), 2.5, rec.t, rec.r,
-                               fit.model.output_offset.value, fit.model.input_baseline);
-  double worst = 0.0;
-  for (size_t k = 0; k < rec.t.size(); ++k) {
-    const double t = rec.t[k];
-    const double kc = 2.5 * 1.8 / (1.0 + 2.5 * 1.8), tc = 12.0 / (1.0 + 2.5 * 1.8);
-    const double truth = t > 5.0 ? 40.0 + 5.0 * kc * (1.0 - std::exp(-(t - 5.0) / tc)) : 40.0;
-    worst = std::max(worst, std::abs(pred.y[k] - truth));
-  }
-  CHECK(worst < 0.05);
+  // The output is reproduced by the fitted loop.
+  CHECK(WorstOutputError(fit, rec) < 0.05);
 }
 
 TEST_CASE("closed-loop fit: a wrong loop gain gives a wrong plant gain (the loop matters)") {
@@ -98,6 +106,34 @@ TEST_CASE("closed-loop fit: noise-free actuator keeps a finite weight (floor K s
   CHECK(fit.input_sd_floored);
   CHECK(fit.input_sd == doctest::Approx(2.5 * fit.output_sd).epsilon(1e-9));
   CHECK(fit.model.values[0] == doctest::Approx(1.8).epsilon(0.05));
+}
+
+TEST_CASE("closed-loop fit: auto fits every structure in the loop and keeps the smallest AICc") {
+  lw::ClosedLoopRecording rec = FirstOrderLoop(0.05, 0.02, 13);
+  lw::ClosedLoopFitOptions o = Options(2.5);
+  o.structure = "auto";
+  lw::ClosedLoopFit fit = lw::FitClosedLoop(rec, o);
+  CHECK(fit.automatic);
+  REQUIRE(fit.candidates.size() == lw::AllStructures().size());
+  double smallest = std::numeric_limits<double>::infinity();
+  int usable = 0;
+  for (const lw::Candidate& c : fit.candidates) {
+    if (!c.usable) continue;
+    ++usable;
+    smallest = std::min(smallest, c.aicc);
+    // Each candidate's numbers are those of its own in-loop fit, as if named.
+    lw::ClosedLoopFitOptions one = Options(2.5);
+    one.structure = std::string(lw::StructureName(c.structure));
+    const lw::ClosedLoopFit named = lw::FitClosedLoop(rec, one);
+    CAPTURE(one.structure);
+    CHECK(c.aicc == doctest::Approx(named.model.aicc).epsilon(1e-9));
+    CHECK(c.fit_percent == doctest::Approx(named.model.fit_percent).epsilon(1e-9));
+    CHECK(c.delta_aicc == doctest::Approx(c.aicc - fit.model.aicc).epsilon(1e-9));
+  }
+  CHECK(usable >= 3);
+  CHECK(fit.model.aicc == smallest);
+  // Whatever was chosen reproduces the closed-form loop.
+  CHECK(WorstOutputError(fit, rec) < 0.05);
 }
 
 TEST_CASE("closed-loop fit: bad options and data are refused with the rule") {
