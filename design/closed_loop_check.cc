@@ -457,6 +457,42 @@ void Envelope(const std::vector<std::vector<double>>& traces, const std::vector<
   }
 }
 
+// Throws DataError when the output responded to no reference step while the model says it
+// should have (the file comment of the header, "A record without a response").
+void RefuseWithoutResponse(const Setup& s, std::span<const double> predicted_y, double sd_y) {
+  std::span<const double> y = s.rec.y;
+  auto moved = [](std::span<const double> v, const StepCheck& st) {
+    const double before = MiddleMean(
+        {v.begin() + static_cast<long>(st.begin), v.begin() + static_cast<long>(st.step)});
+    double most = 0.0;
+    for (size_t k = st.step; k < st.end; ++k) most = std::max(most, std::abs(v[k] - before));
+    return most;
+  };
+  double largest = 0.0, expected = 0.0, threshold = 0.0;
+  for (const StepCheck& st : s.steps) {
+    const double limit = std::max(5.0 * sd_y, s.base.settle_band * std::abs(st.to - st.from));
+    const double seen = moved(y, st), wanted = moved(predicted_y, st);
+    if (seen >= limit || !(wanted > 2.0 * limit)) return;  // a response, or none expected
+    if (&st == &s.steps.front()) {
+      threshold = limit;
+      expected = wanted;
+    }
+    largest = std::max(largest, seen);
+  }
+  const StepCheck& first = s.steps.front();
+  const std::string steps =
+      s.steps.size() == 1
+          ? "the reference stepped by " + Num(first.to - first.from) + " at t = " + Num(first.at) +
+                " s"
+          : "each of the " + std::to_string(s.steps.size()) + " reference steps (the first by " +
+                Num(first.to - first.from) + " at t = " + Num(first.at) + " s)";
+  throw DataError("the output moved by at most " + Num(largest) + ", less than " + Num(threshold) +
+                  " (5 noise sd or " + Num(100.0 * s.base.settle_band) + " % of the step), after " +
+                  steps + ", where the model predicts " + Num(expected) +
+                  ": the loop did not respond (a dead sensor, the wrong output column or the "
+                  "loop not closed?), so there is nothing to check");
+}
+
 }  // namespace
 
 void ClosedLoopCheckOptions::Validate() const {
@@ -592,6 +628,7 @@ ClosedLoopCheck CheckClosedLoop(const TransferFunction& plant,
 
   // Nominal prediction and fit.
   Trace nominal = PredictTrace(s, plant);
+  RefuseWithoutResponse(s, nominal.y, c.sd_output);
   {
     double mean = 0.0;
     for (size_t k = k0; k < n; ++k) mean += record.y[k];

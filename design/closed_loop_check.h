@@ -55,6 +55,12 @@
 // A step is at its limit when its time at a limit is at least min_limit_samples sample intervals
 // and at least limit_time_fraction of the time after the step.
 //
+// A record without a response is refused (DataError), not judged: when after every step the
+// output moves by less than max(5 sd_output, settle_band |step|) from the middle mean of the
+// step's samples before it (largest |y[k] - level| after the step), while the nominal prediction
+// moves by more than twice that. A dead sensor, the wrong output column or a loop that was not
+// closed give such a record; tolerances built from it would only be noise.
+//
 // Verdict: `saturated` when any step is at its limit (a linear prediction does not apply there);
 // else `stale` when any judged metric of any step is inconsistent (the rig no longer behaves as
 // the model says: refit); else `confirmed`. `reason` says why in one line.
@@ -171,8 +177,11 @@ struct ClosedLoopCheck {
 // controller and gain: what the rig ran. Throws UsageError for bad options or a record whose
 // sizes disagree or whose times are not strictly increasing, and DataError when the reference has
 // no step, when a step has fewer than min_step_samples samples on a side ("reference steps at
-// t = 10 s and t = 10.5 s are 5 samples apart; each needs at least 10 on either side"), or when
-// y or u is not finite. SimulateClosedLoop's UsageError passes through.
+// t = 10 s and t = 10.5 s are 5 samples apart; each needs at least 10 on either side"), when
+// y or u is not finite, or when the output did not respond (above: "the output moved by at most
+// 0.01, less than 0.3 (5 noise sd or 2 % of the step), after the reference stepped by 6 at
+// t = 5 s, where the model predicts 5.8: the loop did not respond ..."). SimulateClosedLoop's
+// UsageError passes through.
 ClosedLoopCheck CheckClosedLoop(const TransferFunction& plant,
                                 const std::vector<TransferFunction>& draws,
                                 const Controller& controller, double gain,

@@ -6,7 +6,9 @@
 // recording are measured (noise-robust metrics), the same reference is predicted with the exact
 // dead time, and every metric is judged against a tolerance from the model's parameter draws and
 // the recording's own noise (design/closed_loop_check.h). Verdict: confirmed (exit 0), stale or
-// saturated (exit 1), with one line of why.
+// saturated (exit 1), with one line of why. A recording that cannot be judged (no reference
+// step, or an output that never responded to one: a dead sensor, a loop not closed) is refused
+// with exit 3 and one sentence naming it; nothing is written.
 #include <cmath>
 #include <memory>
 #include <optional>
@@ -133,8 +135,13 @@ class CheckCommand : public Command {
     if (!rec.has_u) Warn(ctx, "no actuator column: peak actuator and actuator limits not judged");
 
     std::vector<TransferFunction> draws = Draws(ctx, model);
-    ClosedLoopCheck c = CheckClosedLoop(model.tf, draws, controller, gain,
-                                        CheckRecord{rec.t, rec.r, rec.u, rec.y}, o);
+    ClosedLoopCheck c;
+    try {
+      c = CheckClosedLoop(model.tf, draws, controller, gain,
+                          CheckRecord{rec.t, rec.r, rec.u, rec.y}, o);
+    } catch (const DataError& e) {
+      throw DataError(recording_ + ": " + e.what());
+    }
     for (const std::string& note : c.notes) Warn(ctx, note);
     json doc = Document(c, model, controller, gain);
     if (!plot_path_.empty()) Plot(c, rec, o);

@@ -9,6 +9,7 @@ from how they were made: a closed-loop recording of the plant a model was fitted
 """
 import json
 import os
+import random
 import shutil
 import subprocess
 import sys
@@ -171,6 +172,29 @@ def case_errors():
         f.write("t,u,y\n0,1,2\n1,1,2\n2,1,2\n3,1,2\n")
     code, _, err = run("check", *args, path("no_r.csv"))
     check(code == 3 and "'r'" in err, f"no reference column: exit 3 naming it ({err})")
+    # A dead sensor: the recorded output stays at its resting 40 (noise of sd 0.06 only) while
+    # the reference steps 40 -> 46: refused with exit 3 and one sentence, nothing written.
+    with open(rec) as f:
+        lines = f.read().splitlines()
+    header = next(i for i, l in enumerate(lines) if not l.startswith("#"))
+    cols = lines[header].split(",")
+    iy = cols.index("y")
+    rng = random.Random(9)
+    with open(path("dead.csv"), "w") as f:
+        f.write(lines[header] + "\n")
+        for l in lines[header + 1:]:
+            cells = l.split(",")
+            cells[iy] = repr(40 + rng.gauss(0, 0.06))
+            f.write(",".join(cells) + "\n")
+    code, out, err = run("check", *args, path("dead.csv"), "--save", path("dead_check.json"),
+                         "--plot", path("dead.svg"))
+    lines = [l for l in err.splitlines() if l.strip() and not l.startswith("warning:")]
+    check(code == 3, f"dead sensor: exit 3 (got {code}: {err.strip()})")
+    check(len(lines) == 1 and "dead.csv" in lines[0] and "did not respond" in lines[0] and
+          "the reference stepped by 6 at t = 10 s" in lines[0],
+          f"dead sensor: one sentence naming the file, the step and the verdict ({err!r})")
+    check(not os.path.exists(path("dead_check.json")) and not os.path.exists(path("dead.svg")),
+          "dead sensor: no --save or --plot file left")
     code, out, err = run("check", "--plant", PLANT, "--controller", CONTROLLER, "--gain", GAIN, rec)
     check(code == 0 and "plant formula has no parameter uncertainty" in err,
           f"a formula checks with a warning that it has no uncertainty ({code}: {err})")

@@ -9,6 +9,7 @@
 
 #include <cmath>
 #include <random>
+#include <string>
 #include <vector>
 
 #include "design/closed_loop_check.h"
@@ -238,6 +239,43 @@ TEST_CASE("check: an output still moving before the first step is noted") {
   const ClosedLoopCheck c = CheckClosedLoop(g, {}, pi, 1.5, rec.View(), o);
   REQUIRE(c.notes.size() == 1);
   CHECK(c.notes[0].find("not be at rest") != std::string::npos);
+}
+
+TEST_CASE("check: an output that never responded is refused, not judged") {
+  // The loop of the plant 2 exp(-0.3 s) / (4 s + 1) under PI, the reference 10 -> 13 at 2 s; the
+  // recorded output is the resting level with noise only (a dead sensor), or flat (a frozen one).
+  const TransferFunction g = Fopdt(2.0, 4.0, 0.3);
+  const Controller pi = Controller::Parse("pi:0.4");
+  const std::vector<double> t = Grid(0.05, 30.0);
+  const std::vector<double> r = Reference(t, 10.0, {{2.0, 13.0}});
+  const Rec live = ClosedLoopRecord(g, pi, 0.8, t, r, 0.02, 3);
+  Rec dead = live;
+  std::mt19937_64 rng(5);
+  std::normal_distribution<double> noise(0.0, 0.02);
+  for (double& v : dead.y) v = 10.0 + noise(rng);
+  std::string said;
+  try {
+    CheckClosedLoop(g, {}, pi, 0.8, dead.View());
+  } catch (const DataError& e) {
+    said = e.what();
+  }
+  CAPTURE(said);
+  CHECK(said.find("after the reference stepped by 3 at t = 2 s, where the model predicts") !=
+        std::string::npos);
+  // "less than X (5 noise sd ...": X is 5 sd of the noise added (sd 0.02), as estimated.
+  const size_t at = said.find("less than ");
+  REQUIRE(at != std::string::npos);
+  CHECK(std::stod(said.substr(at + 10)) == doctest::Approx(0.1).epsilon(0.1));
+  CHECK(said.find("(5 noise sd or 2 % of the step)") != std::string::npos);
+  Rec frozen = live;
+  for (double& v : frozen.y) v = 10.0;
+  CHECK_THROWS_WITH_AS(CheckClosedLoop(g, {}, pi, 0.8, frozen.View()),
+                       doctest::Contains("the output moved by at most 0,"), DataError);
+  // A response of a fifth of the predicted one is judged (stale), not refused; so is the live one.
+  Rec weak = live;
+  for (size_t k = 0; k < weak.y.size(); ++k) weak.y[k] = 10.0 + 0.2 * (live.y[k] - 10.0);
+  CHECK(CheckClosedLoop(g, {}, pi, 0.8, weak.View()).verdict == CheckVerdict::kStale);
+  CHECK(CheckClosedLoop(g, {}, pi, 0.8, live.View()).verdict == CheckVerdict::kConfirmed);
 }
 
 TEST_CASE("check: refusals name what is wrong") {
