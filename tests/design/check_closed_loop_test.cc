@@ -56,6 +56,15 @@ Rec ClosedLoopRecord(const TransferFunction& plant, const Controller& c, double 
   return rec;
 }
 
+// The loop of `plant` under PI control K (s + 0.4) / s, 20 Hz for 30 s, the reference stepping
+// from 10 to step.second at t = step.first, output noise sd 0.02.
+Rec PiLoopRecord(const TransferFunction& plant, double gain, std::pair<double, double> step,
+                 uint64_t seed) {
+  const std::vector<double> t = Grid(0.05, 30.0);
+  return ClosedLoopRecord(plant, Controller::Parse("pi:0.4"), gain, t, Reference(t, 10.0, {step}),
+                          0.02, seed);
+}
+
 // First order plus dead time K exp(-T s) / (tau s + 1).
 TransferFunction Fopdt(double k, double tau, double delay) {
   return TransferFunction(std::vector<double>{k}, std::vector<double>{tau, 1.0}, delay);
@@ -193,9 +202,7 @@ TEST_CASE("check: several reference steps, each judged on its own segment") {
 TEST_CASE("check: the same result on one thread or two; without u the actuator is not judged") {
   const TransferFunction g = Fopdt(1.8, 4.0, 0.6);
   const Controller pi = Controller::Parse("pi:0.4");
-  const std::vector<double> t = Grid(0.05, 30.0);
-  const std::vector<double> r = Reference(t, 10.0, {{3.0, 12.0}});
-  const Rec rec = ClosedLoopRecord(g, pi, 1.6, t, r, 0.02, 21);
+  const Rec rec = PiLoopRecord(g, 1.6, {3.0, 12.0}, 21);
   const std::vector<TransferFunction> draws = FopdtDraws(1.8, 4.0, 0.6, 0.03, 50, 9);
   ClosedLoopCheckOptions one, two;
   one.threads = 1;
@@ -246,9 +253,7 @@ TEST_CASE("check: an output that never responded is refused, not judged") {
   // recorded output is the resting level with noise only (a dead sensor), or flat (a frozen one).
   const TransferFunction g = Fopdt(2.0, 4.0, 0.3);
   const Controller pi = Controller::Parse("pi:0.4");
-  const std::vector<double> t = Grid(0.05, 30.0);
-  const std::vector<double> r = Reference(t, 10.0, {{2.0, 13.0}});
-  const Rec live = ClosedLoopRecord(g, pi, 0.8, t, r, 0.02, 3);
+  const Rec live = PiLoopRecord(g, 0.8, {2.0, 13.0}, 3);
   Rec dead = live;
   std::mt19937_64 rng(5);
   std::normal_distribution<double> noise(0.0, 0.02);
