@@ -85,16 +85,30 @@ json StepJson(const StepCheck& st) {
           {"at_limit", st.at_limit}};
 }
 
+// CLI11 writes a positional that takes one or two values as "NAME(1x)" in the usage line; this
+// formatter writes the name alone ("[MODEL.json] REC.csv" says what may be given).
+class PositionalsAsNamed : public CLI::Formatter {
+ public:
+  explicit PositionalsAsNamed(const CLI::FormatterBase& base) {
+    column_width(base.get_column_width());
+  }
+  std::string make_option_usage(const CLI::Option* opt) const override {
+    return make_option_name(opt, true);
+  }
+};
+
 class CheckCommand : public Command {
  public:
   void Configure(CLI::App& sub) override {
     // MODEL.json REC.csv, or REC.csv alone with --plant (or --model): one positional list, so
     // the recording is always the last one whatever the options between them.
-    sub.add_option("MODEL.json REC.csv", inputs_,
+    sub.add_option("[MODEL.json] REC.csv", inputs_,
                    "Model file written by `loopwright fit -o` (or give --plant), then the "
                    "closed-loop recording (CSV)")
         ->expected(1, 2)
+        ->option_text(" ")
         ->required();
+    sub.formatter(std::make_shared<PositionalsAsNamed>(*sub.get_formatter()));
     source_.Add(sub, ModelSource::FileSpelling::kOption);
     controller_.Add(sub, /*gain_required=*/true);
     columns_.Add(sub, ColumnSet{true, true, true});

@@ -152,6 +152,13 @@ def case_demo():
 
 
 def case_errors():
+    code, out, _ = run("check", "--help")
+    usage = next((l for l in out.splitlines() if l.startswith("Usage:")), "")
+    check(code == 0 and usage.endswith(" check [OPTIONS] [MODEL.json] REC.csv"),
+          f"check --help: the model file optional, then the recording ({usage!r})")
+    code, _, err = run("check", "--plant", PLANT, "--gain", GAIN)
+    check(code == 2 and "[MODEL.json] REC.csv is required" in err,
+          f"no recording: exit 2 naming what is missing ({err.strip()})")
     rec = closed_loop(PLANT, 5, "plain.csv")
     args = ["--plant", PLANT, "--controller", CONTROLLER, "--gain", GAIN]
     code, _, err = run("check", *args, rec, "--plot", path("fig.txt"))

@@ -65,6 +65,9 @@ def case_help():
         code, sub_out, _ = run(name, "--help")
         check(code == 0, f"{name} --help exits 0 (got {code})")
         check("--help" in sub_out and "Usage" in sub_out, f"{name} --help prints a usage text")
+        # CLI11 marks a positional taking a range of values "NAME(1x)"; our usage lines say
+        # what may be given instead.
+        check(re.search(r"\(\d+x\)", sub_out) is None, f"{name} --help has no '(Nx)' marks")
     code, out, _ = run("simulate", "--help")
     for word in ["--plant", "--model", "--input", "--reference", "--rate", "--duration", "--noise",
                  "--quantize", "--saturate", "--seed", "--gain", "--controller", "--json",
