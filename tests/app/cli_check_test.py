@@ -10,34 +10,17 @@ from how they were made: a closed-loop recording of the plant a model was fitted
 import json
 import os
 import random
-import shutil
-import subprocess
-import sys
 import xml.etree.ElementTree as ET
 
-BIN, SOURCE, WORK, CASE = sys.argv[1:5]
-failures = []
+import cli_common
+from cli_common import SOURCE, check, path, run
+
 
 # Our plant for the rerun cases: a mixing-tank temperature loop, 1.6 degC/% with a 12 s lag and
 # 2.5 s dead time, sampled at 2 Hz, under PI control.
 PLANT = "1.6*exp(-2.5*s)/(12*s+1)"
 SLOWER = "1.6*exp(-2.5*s)/(15*s+1)"  # time constant +25 %
 CONTROLLER, GAIN = "pi:0.12", "2.2"
-
-
-def run(*args):
-    p = subprocess.run([BIN, *args], capture_output=True, text=True, cwd=WORK, timeout=300)
-    return p.returncode, p.stdout, p.stderr
-
-
-def check(cond, what):
-    if not cond:
-        failures.append(what)
-        print("FAIL:", what)
-
-
-def path(name):
-    return os.path.join(WORK, name)
 
 
 def fitted_model():
@@ -207,12 +190,4 @@ def case_errors():
           f"a formula checks with a warning that it has no uncertainty ({code}: {err})")
 
 
-CASES = {"reruns": case_reruns, "saturated": case_saturated, "demo": case_demo,
-         "errors": case_errors}
-
-if __name__ == "__main__":
-    shutil.rmtree(WORK, ignore_errors=True)
-    os.makedirs(WORK)
-    CASES[CASE]()
-    print(f"{0 if failures else 1} passed, {len(failures)} failed")
-    sys.exit(1 if failures else 0)
+cli_common.main(globals())

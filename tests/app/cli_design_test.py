@@ -18,32 +18,15 @@ import os
 import pty
 import re
 import select
-import shutil
 import subprocess
-import sys
 import xml.etree.ElementTree as ET
 
-BIN, SOURCE, WORK, CASE = sys.argv[1:5]
-failures = []
+import cli_common
+from cli_common import BIN, WORK, check, path, run
+
 OGATA = "1/(s*(s+1)*(s+2))"
 BAND_ORANGE = "#E69F00"  # io/figure.h kBand
 MODEL_VERMILLION = "#D55E00"  # io/figure.h kModel
-
-
-def run(*args, env=None):
-    p = subprocess.run([BIN, *args], capture_output=True, text=True, cwd=WORK, timeout=300,
-                       env=env)
-    return p.returncode, p.stdout, p.stderr
-
-
-def check(cond, what):
-    if not cond:
-        failures.append(what)
-        print("FAIL:", what)
-
-
-def path(name):
-    return os.path.join(WORK, name)
 
 
 def close(a, b, rel):
@@ -403,14 +386,4 @@ def case_colour():
     check(code == 0 and "\x1b[" not in out, "NO_COLOR=1 turns colour off on a terminal")
 
 
-CASES = {name[5:]: f for name, f in globals().items() if name.startswith("case_")}
-
-if __name__ == "__main__":
-    if os.path.isdir(WORK):
-        shutil.rmtree(WORK)
-    os.makedirs(WORK)
-    CASES[CASE]()
-    if failures:
-        print(f"{len(failures)} check(s) failed in case {CASE}")
-        sys.exit(1)
-    print(f"case {CASE}: all checks passed")
+cli_common.main(globals())

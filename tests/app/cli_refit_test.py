@@ -11,28 +11,11 @@ import json
 import math
 import os
 import re
-import shutil
-import subprocess
-import sys
 
-BIN, SOURCE, WORK, CASE = sys.argv[1:5]
+import cli_common
+from cli_common import SOURCE, WORK, check, path, run
+
 REC = os.path.join(SOURCE, "recordings")
-failures = []
-
-
-def run(*args, timeout=300):
-    p = subprocess.run([BIN, *args], capture_output=True, text=True, cwd=WORK, timeout=timeout)
-    return p.returncode, p.stdout, p.stderr
-
-
-def check(cond, what):
-    if not cond:
-        failures.append(what)
-        print("FAIL:", what)
-
-
-def path(name):
-    return os.path.join(WORK, name)
 
 
 def fit_json(*args):
@@ -271,20 +254,4 @@ def case_errors():
         check(not leftovers, f"{what}: no temporary files left ({leftovers})")
 
 
-CASES = {
-    "compare": case_compare,
-    "compare_same": case_compare_same,
-    "band": case_band,
-    "closed_loop": case_closed_loop,
-    "units_and_text": case_units_and_text,
-    "errors": case_errors,
-}
-
-if __name__ == "__main__":
-    shutil.rmtree(WORK, ignore_errors=True)
-    os.makedirs(WORK)
-    CASES[CASE]()
-    if failures:
-        print(f"{len(failures)} check(s) failed in case {CASE}")
-        sys.exit(1)
-    print(f"case {CASE}: all checks passed")
+cli_common.main(globals())

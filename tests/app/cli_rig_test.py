@@ -12,18 +12,10 @@ import os
 import re
 import signal
 import subprocess
-import sys
 import time
 
-BIN, SOURCE, WORK, CASE = sys.argv[1:5]
-os.makedirs(WORK, exist_ok=True)
-failures = []
-
-
-def check(cond, what):
-    if not cond:
-        failures.append(what)
-        print("FAIL:", what)
+import cli_common
+from cli_common import BIN, WORK, check, run
 
 
 def crc16_ccitt_false(data: bytes) -> int:
@@ -61,11 +53,6 @@ class Emulator:
         self.err.close()
         with open(self.err_path) as f:
             return f.read()
-
-
-def run(*args, timeout=120):
-    p = subprocess.run([BIN, *args], capture_output=True, text=True, cwd=WORK, timeout=timeout)
-    return p.returncode, p.stdout, p.stderr
 
 
 def fresh(name):
@@ -476,12 +463,4 @@ def case_tune():
     check(os.path.exists(os.path.join(out_dir, "report.html")), "tune writes the report")
 
 
-CASES = {name[5:]: f for name, f in globals().items() if name.startswith("case_")}
-if CASE not in CASES:
-    print("unknown case", CASE)
-    sys.exit(2)
-CASES[CASE]()
-if failures:
-    print(f"{len(failures)} failure(s)")
-    sys.exit(1)
-print("ok")
+cli_common.main(globals(), clean=False)

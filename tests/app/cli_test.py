@@ -10,23 +10,10 @@ import json
 import math
 import os
 import re
-import shutil
 import subprocess
-import sys
 
-BIN, SOURCE, WORK, CASE = sys.argv[1:5]
-failures = []
-
-
-def run(*args, cwd=None):
-    p = subprocess.run([BIN, *args], capture_output=True, text=True, cwd=cwd or WORK, timeout=120)
-    return p.returncode, p.stdout, p.stderr
-
-
-def check(cond, what):
-    if not cond:
-        failures.append(what)
-        print("FAIL:", what)
+import cli_common
+from cli_common import BIN, SOURCE, WORK, check, path, run
 
 
 def read_csv(path):
@@ -37,10 +24,6 @@ def read_csv(path):
     header = data[0].split(",")
     rows = [[float(c) for c in l.split(",")] for l in data[1:]]
     return comments, header, rows
-
-
-def path(name):
-    return os.path.join(WORK, name)
 
 
 def case_version():
@@ -306,21 +289,4 @@ def case_recordings():
         check(name in card, f"recordings/README.md has a card for {name}")
 
 
-CASES = {
-    "version": case_version,
-    "help": case_help,
-    "simulate_open": case_simulate_open,
-    "simulate_closed": case_simulate_closed,
-    "simulate_csv_input": case_simulate_csv_input,
-    "errors": case_errors,
-    "recordings": case_recordings,
-}
-
-if __name__ == "__main__":
-    shutil.rmtree(WORK, ignore_errors=True)
-    os.makedirs(WORK)
-    CASES[CASE]()
-    if failures:
-        print(f"{len(failures)} check(s) failed in case {CASE}")
-        sys.exit(1)
-    print(f"case {CASE}: all checks passed")
+cli_common.main(globals())

@@ -12,34 +12,16 @@ import hashlib
 import json
 import math
 import os
-import shutil
 import sqlite3
-import subprocess
-import sys
 import tomllib
 import xml.etree.ElementTree as ET
 
 from scipy.stats import norm
 
-BIN, SOURCE, WORK, CASE = sys.argv[1:5]
-BIN = os.path.abspath(BIN)
+import cli_common
+from cli_common import SOURCE, WORK, check, path, run
+
 SVG = "{http://www.w3.org/2000/svg}"
-failures = []
-
-
-def run(*args, cwd=None):
-    p = subprocess.run([BIN, *args], capture_output=True, text=True, cwd=cwd or WORK, timeout=120)
-    return p.returncode, p.stdout, p.stderr
-
-
-def check(cond, what):
-    if not cond:
-        failures.append(what)
-        print("FAIL:", what)
-
-
-def path(*names):
-    return os.path.join(WORK, *names)
 
 
 def sha256(file):
@@ -236,10 +218,4 @@ def case_drift():
     check(code == 1 and "structure 'sopdt'" in err, f"drift of a structure never fitted ({err.strip()})")
 
 
-shutil.rmtree(WORK, ignore_errors=True)
-os.makedirs(WORK)
-globals()["case_" + CASE]()
-if failures:
-    print(f"{len(failures)} failure(s)")
-    sys.exit(1)
-print("ok")
+cli_common.main(globals())
