@@ -5,12 +5,18 @@
 // A forked child plays the rig: it writes pre-encoded `s` lines (real CRCs, consecutive SEQ)
 // into the pty master or the accepted socket as fast as it can, or one per millisecond for the
 // 1 kHz case. The parent is the host: a RigLink in handler mode (as the rig session uses it)
-// or queue mode. Rates are the median of the runs; CPU is the parent's user + system time from
-// getrusage (the child's is not counted), as a percentage of one core. The reference beside each
-// transport is the same bytes read with plain read(2) and nothing else, and the ratio is
-// link rate / raw rate; lines/cpu-s is what the host could take in with a core to itself (the
-// machine may be shared). Targets: >= 200 000 lines/s; at 1 kHz under 1 % of one core.
-//   bench_ingest [LINES] [SECONDS_AT_1KHZ]
+// or queue mode (NextEvent on the main thread, so a thread handoff per line is counted too).
+// CPU is the parent's user + system time from getrusage (the child's is not counted). The
+// reference beside each transport is the same bytes read with plain blocking read(2) and
+// nothing else. Every figure is the median over RUNS runs, the runs of all rows interleaved so a
+// change in the machine's load falls on every row alike.
+//   Throughput table: "vs raw" is link rate / raw rate; lines/cpu-s is what the host could take
+//   in with a core to itself (the machine may be shared).
+//   1 kHz table: cpu % of one core; us/line is host CPU microseconds per line (one line per
+//   wakeup at this rate); "vs raw" is link CPU / raw CPU, the cost of the link over the floor
+//   that reading the same bytes one wakeup at a time costs.
+// Targets: >= 200 000 lines/s; at 1 kHz under 1 % of one core (10 us per line).
+//   bench_ingest [LINES] [SECONDS_AT_1KHZ] [RUNS]
 // Prints a table; never fails on timing. Exit 1 only when a line was lost or rejected or
 // something could not be set up.
 #include <fcntl.h>
@@ -106,9 +112,21 @@ int Listen(std::string& port) {
 
 // The child: writes `text` in chunks, or one line per `period_us` when it is > 0, then waits
 // to be killed (closing a pty master at once could discard what the host has not read yet).
-pid_t StartRig(int fd, const std::string& text, long period_us) {
+// It is forked before the host's clocks start and begins when the host writes a byte into
+// `go_fd`, so the fork (copying the page tables of a process holding the text) is not counted.
+pid_t StartRig(int fd, const std::string& text, long period_us, int& go_fd) {
+  int go[2];
+  if (pipe(go) != 0) throw std::runtime_error("cannot create a pipe");
   const pid_t pid = fork();
-  if (pid != 0) return pid;
+  if (pid < 0) throw std::runtime_error("cannot fork the rig");
+  if (pid != 0) {
+    close(go[0]);
+    go_fd = go[1];
+    return pid;
+  }
+  close(go[1]);
+  char byte = 0;
+  if (read(go[0], &byte, 1) != 1) _exit(2);
   std::size_t at = 0;
   timespec next{};
   clock_gettime(CLOCK_MONOTONIC, &next);
@@ -179,10 +197,13 @@ Run Once(bool tcp, Mode mode, const std::string& text, std::size_t lines, long p
   } else if (mode == Mode::kQueue) {
     link->StartQueue();
   }
+  int go_fd = -1;
+  const pid_t child = StartRig(ends.rig_fd, text, period_us, go_fd);
+  close(ends.rig_fd);
   const double cpu0 = CpuSeconds();
   const auto t0 = Clock::now();
-  const pid_t child = StartRig(ends.rig_fd, text, period_us);
-  close(ends.rig_fd);
+  if (write(go_fd, "g", 1) != 1) throw std::runtime_error("cannot start the rig");
+  close(go_fd);
   Run run;
   // Everything should arrive well within this; a lost line shows as a timeout, not a hang.
   const auto deadline = t0 + std::chrono::seconds(20) +
@@ -230,59 +251,82 @@ double Median(std::vector<double> v) {
   return v[v.size() / 2];
 }
 
+const char* ModeName(Mode mode) {
+  return mode == Mode::kRaw ? "raw read" : mode == Mode::kHandler ? "handler" : "queue";
+}
+
+// Median wall and CPU seconds of each (link, mode) row over `runs` interleaved runs.
+struct Row {
+  bool tcp = false;
+  Mode mode = Mode::kRaw;
+  std::vector<double> walls, cpus;
+  std::uint64_t lost = 0;
+  double wall() const { return Median(walls); }
+  double cpu() const { return Median(cpus); }
+};
+
+std::vector<Row> Measure(const std::string& text, std::size_t lines, long period_us, int runs) {
+  std::vector<Row> rows;
+  for (bool tcp : {false, true}) {
+    for (Mode mode : {Mode::kRaw, Mode::kHandler, Mode::kQueue}) {
+      Row row;
+      row.tcp = tcp;
+      row.mode = mode;
+      rows.push_back(row);
+    }
+  }
+  for (int r = 0; r < runs; ++r) {
+    for (Row& row : rows) {
+      const Run run = Once(row.tcp, row.mode, text, lines, period_us);
+      row.walls.push_back(run.wall);
+      row.cpus.push_back(run.cpu);
+      row.lost += run.lost;
+    }
+  }
+  return rows;
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
   const std::size_t lines = argc > 1 ? std::strtoull(argv[1], nullptr, 10) : 1000000;
   const double seconds_1khz = argc > 2 ? std::strtod(argv[2], nullptr) : 10.0;
+  const int runs = argc > 3 ? std::max(1, std::atoi(argv[3])) : 3;
   signal(SIGPIPE, SIG_IGN);
   bool all_received = true;
   try {
     const std::string text = MakeLines(lines);
-    std::printf("rig link ingest: %zu sample lines (%.1f MB, %.1f bytes/line), median of 3 runs\n",
-                lines, text.size() / 1e6, static_cast<double>(text.size()) / lines);
+    std::printf("rig link ingest: %zu sample lines (%.1f MB, %.1f bytes/line), median of %d runs\n",
+                lines, text.size() / 1e6, static_cast<double>(text.size()) / lines, runs);
     std::printf("%-6s %-9s %12s %8s %9s %10s %8s %13s %7s\n", "link", "mode", "lines/s", "MB/s",
                 "wall s", "cpu s", "vs raw", "lines/cpu-s", "lost");
-    for (bool tcp : {false, true}) {
-      double raw_rate = 0.0;
-      for (Mode mode : {Mode::kRaw, Mode::kHandler, Mode::kQueue}) {
-        std::vector<double> walls, cpus;
-        std::uint64_t lost = 0;
-        for (int r = 0; r < 3; ++r) {
-          const Run run = Once(tcp, mode, text, lines, 0);
-          walls.push_back(run.wall);
-          cpus.push_back(run.cpu);
-          lost += run.lost;
-        }
-        const double wall = Median(walls);
-        const double rate = static_cast<double>(lines) / wall;
-        if (mode == Mode::kRaw) raw_rate = rate;
-        const char* name = mode == Mode::kRaw       ? "raw read"
-                           : mode == Mode::kHandler ? "handler"
-                                                    : "queue";
-        std::printf("%-6s %-9s %12.0f %8.1f %9.3f %10.3f %8.2f %13.0f %7llu\n", tcp ? "tcp" : "pty",
-                    name, rate, text.size() / wall / 1e6, wall, Median(cpus), rate / raw_rate,
-                    static_cast<double>(lines) / Median(cpus),
-                    static_cast<unsigned long long>(lost));
-        all_received = all_received && lost == 0;
-      }
+    double raw_rate = 0.0;
+    for (const Row& row : Measure(text, lines, 0, runs)) {
+      const double rate = static_cast<double>(lines) / row.wall();
+      if (row.mode == Mode::kRaw) raw_rate = rate;
+      std::printf("%-6s %-9s %12.0f %8.1f %9.3f %10.3f %8.2f %13.0f %7llu\n",
+                  row.tcp ? "tcp" : "pty", ModeName(row.mode), rate, text.size() / row.wall() / 1e6,
+                  row.wall(), row.cpu(), rate / raw_rate, static_cast<double>(lines) / row.cpu(),
+                  static_cast<unsigned long long>(row.lost));
+      all_received = all_received && row.lost == 0;
     }
     const std::size_t slow_lines = std::min(lines, static_cast<std::size_t>(seconds_1khz * 1000.0));
     std::size_t slow_end = 0;
     for (std::size_t i = 0; i < slow_lines && i < lines; ++i)
       slow_end = text.find('\n', slow_end) + 1;
     const std::string slow = text.substr(0, slow_end);
-    std::printf("\n1 kHz stream for %.0f s: host CPU as %% of one core\n", seconds_1khz);
-    std::printf("%-6s %-9s %10s %10s %10s %7s\n", "link", "mode", "wall s", "cpu s", "cpu %",
-                "lost");
-    for (bool tcp : {false, true}) {
-      for (Mode mode : {Mode::kRaw, Mode::kHandler}) {
-        const Run run = Once(tcp, mode, slow, slow_lines, 1000);
-        std::printf("%-6s %-9s %10.2f %10.4f %10.3f %7llu\n", tcp ? "tcp" : "pty",
-                    mode == Mode::kRaw ? "raw read" : "handler", run.wall, run.cpu,
-                    100.0 * run.cpu / run.wall, static_cast<unsigned long long>(run.lost));
-        all_received = all_received && run.lost == 0;
-      }
+    std::printf("\n1 kHz stream for %.0f s: host CPU as %% of one core, median of %d runs\n",
+                static_cast<double>(slow_lines) / 1000.0, runs);
+    std::printf("%-6s %-9s %8s %9s %8s %9s %8s %7s\n", "link", "mode", "wall s", "cpu s", "cpu %",
+                "us/line", "vs raw", "lost");
+    double raw_cpu = 0.0;
+    for (const Row& row : Measure(slow, slow_lines, 1000, runs)) {
+      if (row.mode == Mode::kRaw) raw_cpu = row.cpu();
+      std::printf("%-6s %-9s %8.2f %9.4f %8.3f %9.2f %8.2f %7llu\n", row.tcp ? "tcp" : "pty",
+                  ModeName(row.mode), row.wall(), row.cpu(), 100.0 * row.cpu() / row.wall(),
+                  1e6 * row.cpu() / static_cast<double>(slow_lines), row.cpu() / raw_cpu,
+                  static_cast<unsigned long long>(row.lost));
+      all_received = all_received && row.lost == 0;
     }
   } catch (const std::exception& e) {
     std::fprintf(stderr, "bench_ingest: %s\n", e.what());

@@ -4,5 +4,5 @@
 add_executable(bench_ingest ${CMAKE_CURRENT_LIST_DIR}/bench_ingest.cc)
 target_link_libraries(bench_ingest PRIVATE lw_io)
 loopwright_warnings(bench_ingest)
-add_test(NAME bench_ingest COMMAND bench_ingest 1000000 10)
+add_test(NAME bench_ingest COMMAND bench_ingest 1000000 5 3)
 set_tests_properties(bench_ingest PROPERTIES LABELS bench TIMEOUT 600)
