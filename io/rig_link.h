@@ -1,8 +1,9 @@
 // A link to a rig: a serial port (USB-serial, or a pseudo-terminal such as the one
 // `loopwright emulate --pty` prints) or a TCP connection, behind one interface. Reading runs on a
-// background thread (a Boost.Asio io_context) so a terminal display never stalls on the link;
-// every line received goes through a RigLineSplitter (CRC, parse, sequence gaps, counts) and the
-// resulting events reach the caller either through a handler or through a thread-safe queue.
+// background thread so a terminal display never stalls on the link; every line received goes
+// through a RigLineSplitter (CRC, parse, sequence gaps, counts) as soon as it arrives (no
+// batching delay: a line costs one wakeup of that thread) and the resulting events reach the
+// caller either through a handler or through a thread-safe queue.
 //
 //   auto link = OpenRigLink(ParseRigPort("/dev/ttyUSB0"), RigLinkOptions{});
 //   link->StartQueue();
@@ -76,7 +77,8 @@ class RigLink {
   // Starts reading; call one of the two, once. Handler mode: events arrive on the link's thread
   // in stream order; handlers must be quick and may call Send/WriteLine/Close.
   void Start(EventHandler on_event, CloseHandler on_close);
-  // Queue mode: events are queued for NextEvent.
+  // Queue mode: events are queued for NextEvent. The reader hands each read's events over at
+  // once and wakes a NextEvent caller only when one is waiting.
   void StartQueue();
 
   // Queue mode: the next event, waiting up to `timeout`; nullopt on timeout. Once the link has

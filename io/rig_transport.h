@@ -1,71 +1,46 @@
-// The byte stream under a RigLink (rig_link.h): a Boost.Asio serial port, TCP socket or POSIX
-// descriptor with its own io_context. Internal to io/: serial_link.cc, tcp_link.cc and
-// rig_link.cc include it; nothing else needs Asio.
+// The byte stream under a RigLink (rig_link.h): one open file descriptor (a serial port, a
+// pseudo-terminal, a TCP socket, one end of a socketpair) that the transport owns, in
+// non-blocking mode. Opening and configuring use Boost.Asio (serial_link.cc, tcp_link.cc);
+// reading and writing are plain read(2) and write(2) (send(2) on sockets) on the link's threads,
+// which wait with epoll_wait(2) (rig_link.cc) or poll(2), so a line costs one wakeup and two
+// system calls and nothing else. Internal to io/.
 #ifndef LOOPWRIGHT_IO_RIG_TRANSPORT_H_
 #define LOOPWRIGHT_IO_RIG_TRANSPORT_H_
 
-// Boost 1.74's Asio uses std::exchange without including <utility> in C++20 mode.
-#include <utility>
-
-#include <boost/asio.hpp>
 #include <cstddef>
-#include <functional>
 #include <string>
-#include <utility>
 
 namespace lw {
 
 class RigTransport {
  public:
-  using ReadHandler = std::function<void(const boost::system::error_code&, std::size_t)>;
-
-  explicit RigTransport(std::string description) : description_(std::move(description)) {}
-  virtual ~RigTransport() = default;
+  // Takes ownership of `fd` and puts it in non-blocking mode. Throws LinkError("cannot use
+  // descriptor 7 for DESCRIPTION: <reason>") when fd is not an open descriptor (it is closed).
+  RigTransport(int fd, std::string description);
+  ~RigTransport();  // Close()s
   RigTransport(const RigTransport&) = delete;
   RigTransport& operator=(const RigTransport&) = delete;
 
-  // The context every operation runs on; RigLink runs it on its thread.
-  boost::asio::io_context& io() { return io_; }
   // The port as text, e.g. "/dev/ttyUSB0" or "tcp:10.0.0.7:5000".
   const std::string& description() const { return description_; }
+  // The descriptor; -1 once closed.
+  int fd() const { return fd_; }
 
-  // Starts one read of up to buffer.size() bytes; the handler runs on io().
-  virtual void AsyncReadSome(boost::asio::mutable_buffer buffer, ReadHandler handler) = 0;
-  // Writes every byte (blocking; call on io()'s thread).
-  virtual void WriteAll(boost::asio::const_buffer buffer, boost::system::error_code& error) = 0;
-  // Cancels pending reads (their handlers see operation_aborted) and closes. Idempotent.
-  virtual void Close() = 0;
-
- protected:
-  boost::asio::io_context io_;
+  // One read(2) of up to `size` bytes: > 0 bytes read, 0 at end of stream, -1 with errno set
+  // (EAGAIN when nothing is there yet).
+  long ReadSome(char* data, std::size_t size);
+  // Writes every byte, waiting with poll(2) while the operating system's buffer is full. Returns
+  // 0, or an errno value: the write failed, or ECANCELED when `stop_fd` (an eventfd, or -1 for
+  // none) became readable while waiting. Sockets are written with MSG_NOSIGNAL, so a peer that
+  // has gone gives EPIPE rather than SIGPIPE.
+  int WriteAll(const char* data, std::size_t size, int stop_fd);
+  // Closes the descriptor. Idempotent; not concurrent with ReadSome or WriteAll.
+  void Close();
 
  private:
+  int fd_ = -1;
+  bool socket_ = false;
   std::string description_;
-};
-
-// A transport over any Asio stream (serial_port, ip::tcp::socket, posix::stream_descriptor)
-// constructed on the transport's io_context.
-template <typename Stream>
-class StreamTransport : public RigTransport {
- public:
-  explicit StreamTransport(std::string description)
-      : RigTransport(std::move(description)), stream_(io_) {}
-
-  Stream& stream() { return stream_; }
-
-  void AsyncReadSome(boost::asio::mutable_buffer buffer, ReadHandler handler) override {
-    stream_.async_read_some(buffer, std::move(handler));
-  }
-  void WriteAll(boost::asio::const_buffer buffer, boost::system::error_code& error) override {
-    boost::asio::write(stream_, buffer, error);
-  }
-  void Close() override {
-    boost::system::error_code ignored;
-    if (stream_.is_open()) stream_.close(ignored);
-  }
-
- private:
-  Stream stream_;
 };
 
 }  // namespace lw

@@ -1,7 +1,16 @@
 #include "io/serial_link.h"
 
+// Boost 1.74's Asio uses std::exchange without including <utility> in C++20 mode.
+#include <utility>
+
+#include <unistd.h>
+
 #include <algorithm>
 #include <array>
+#include <boost/asio/io_context.hpp>
+#include <boost/asio/serial_port.hpp>
+#include <cerrno>
+#include <cstring>
 
 #include "io/rig_transport.h"
 #include "lti/error.h"
@@ -22,8 +31,8 @@ bool IsStandardBaud(unsigned baud) {
 std::unique_ptr<RigTransport> OpenSerialTransport(const std::string& device, unsigned baud,
                                                   SerialFlowControl flow_control) {
   using boost::asio::serial_port;
-  auto transport = std::make_unique<StreamTransport<serial_port>>(device);
-  serial_port& port = transport->stream();
+  boost::asio::io_context io;
+  serial_port port(io);
   boost::system::error_code error;
   port.open(device, error);
   if (error) throw LinkError("cannot open " + device + ": " + error.message());
@@ -44,7 +53,10 @@ std::unique_ptr<RigTransport> OpenSerialTransport(const std::string& device, uns
   if (error) {
     throw LinkError(std::string("cannot set ") + step + " on " + device + ": " + error.message());
   }
-  return transport;
+  // The link reads and writes the descriptor itself (rig_transport.h); Asio's copy closes here.
+  const int fd = ::dup(port.native_handle());
+  if (fd < 0) throw LinkError("cannot open " + device + ": " + std::strerror(errno));
+  return std::make_unique<RigTransport>(fd, device);
 }
 
 }  // namespace lw

@@ -1,5 +1,11 @@
 #include "io/tcp_link.h"
 
+// Boost 1.74's Asio uses std::exchange without including <utility> in C++20 mode.
+#include <utility>
+
+#include <boost/asio/connect.hpp>
+#include <boost/asio/io_context.hpp>
+#include <boost/asio/ip/tcp.hpp>
 #include <chrono>
 #include <optional>
 
@@ -17,9 +23,8 @@ std::unique_ptr<RigTransport> ConnectTcpTransport(const std::string& host, std::
   where.host = host;
   where.port = port;
   const std::string name = where.ToString();
-  auto transport = std::make_unique<StreamTransport<tcp::socket>>(name);
-  boost::asio::io_context& io = transport->io();
-  tcp::socket& socket = transport->stream();
+  boost::asio::io_context io;
+  tcp::socket socket(io);
 
   boost::system::error_code error;
   tcp::resolver resolver(io);
@@ -40,9 +45,11 @@ std::unique_ptr<RigTransport> ConnectTcpTransport(const std::string& host, std::
                     SignificantText(timeout_s, 3) + " s");
   }
   if (*result) throw LinkError("cannot connect to " + name + ": " + result->message());
-  io.restart();
   socket.set_option(tcp::no_delay(true), error);
-  return transport;
+  // The link reads and writes the descriptor itself (rig_transport.h).
+  const int fd = socket.release(error);
+  if (error) throw LinkError("cannot connect to " + name + ": " + error.message());
+  return std::make_unique<RigTransport>(fd, name);
 }
 
 }  // namespace lw
