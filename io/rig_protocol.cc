@@ -13,19 +13,30 @@
 namespace lw {
 namespace {
 
-constexpr std::array<std::uint16_t, 256> MakeCrcTable() {
-  std::array<std::uint16_t, 256> table{};
+// Slicing-by-8: tables[k][x] is the CRC register after the byte x followed by k zero bytes,
+// starting from 0. The CRC is linear, so 8 bytes b0..b7 advance a register (h, l) to
+//     T7[h ^ b0] ^ T6[l ^ b1] ^ T5[b2] ^ T4[b3] ^ T3[b4] ^ T2[b5] ^ T1[b6] ^ T0[b7]
+// with eight independent look-ups instead of a chain of eight dependent ones.
+using CrcTables = std::array<std::array<std::uint16_t, 256>, 8>;
+constexpr CrcTables MakeCrcTables() {
+  CrcTables tables{};
   for (unsigned byte = 0; byte < 256; ++byte) {
     std::uint16_t crc = static_cast<std::uint16_t>(byte << 8);
     for (int bit = 0; bit < 8; ++bit) {
       crc = (crc & 0x8000) ? static_cast<std::uint16_t>((crc << 1) ^ 0x1021)
                            : static_cast<std::uint16_t>(crc << 1);
     }
-    table[byte] = crc;
+    tables[0][byte] = crc;
   }
-  return table;
+  for (std::size_t k = 1; k < 8; ++k) {
+    for (unsigned x = 0; x < 256; ++x) {
+      const std::uint16_t prev = tables[k - 1][x];
+      tables[k][x] = static_cast<std::uint16_t>((prev << 8) ^ tables[0][prev >> 8]);
+    }
+  }
+  return tables;
 }
-constexpr std::array<std::uint16_t, 256> kCrcTable = MakeCrcTable();
+constexpr CrcTables kCrcTables = MakeCrcTables();
 
 constexpr char kHex[] = "0123456789ABCDEF";
 
@@ -129,26 +140,42 @@ class LineWriter {
 
 // ---- Parsing --------------------------------------------------------------------------------
 
+// Where ParseInto writes: a RigParseResult's members, or the splitter's event.
+struct ParseOut {
+  RigMessage& message;
+  RigParseStatus& status;
+  std::string& reason;
+};
+
 // Fields of a body split at single spaces, with the position of each for the TEXT remainder.
 class Fields {
  public:
-  // Returns false when the body has an empty field (leading, trailing or double space).
-  bool Split(std::string_view body) {
+  enum class Problem { kNone, kNotPrintable, kEmptyField };
+  // One pass over the body: splits it at spaces and checks that every byte is printable ASCII
+  // (that problem is reported first), and that no field is empty (a leading, trailing or double
+  // space).
+  Problem Split(std::string_view body) {
     body_ = body;
     count_ = 0;
+    bool printable = true;
+    bool empty_field = false;
     std::size_t start = 0;
-    while (true) {
-      std::size_t space = body.find(' ', start);
-      std::size_t end = space == std::string_view::npos ? body.size() : space;
-      if (end == start) return false;
+    const std::size_t n = body.size();
+    for (std::size_t i = 0; i <= n; ++i) {
+      if (i < n && body[i] != ' ') {
+        printable &= body[i] > ' ' && body[i] <= '~';
+        continue;
+      }
+      if (i == start) empty_field = true;
       if (count_ < kMaxFields) {
         starts_[count_] = start;
-        fields_[count_] = body.substr(start, end - start);
+        fields_[count_] = body.substr(start, i - start);
       }
       ++count_;
-      if (space == std::string_view::npos) return true;
-      start = space + 1;
+      start = i + 1;
     }
+    if (!printable) return Problem::kNotPrintable;
+    return empty_field ? Problem::kEmptyField : Problem::kNone;
   }
   std::size_t count() const { return count_; }
   std::string_view operator[](std::size_t i) const { return fields_[i]; }
@@ -168,10 +195,13 @@ bool ParseUnsigned(std::string_view text, std::uint64_t max, std::uint64_t& out)
   if (text.size() > 1 && text[0] == '0') return false;  // no leading zeros
   std::uint64_t value = 0;
   for (char c : text) {
-    if (c < '0' || c > '9') return false;
+    const unsigned digit = static_cast<unsigned char>(c) - static_cast<unsigned>('0');
+    if (digit > 9 || __builtin_mul_overflow(value, 10u, &value) ||
+        __builtin_add_overflow(value, digit, &value)) {
+      return false;
+    }
   }
-  auto [ptr, ec] = std::from_chars(text.data(), text.data() + text.size(), value);
-  if (ec != std::errc() || ptr != text.data() + text.size() || value > max) return false;
+  if (value > max) return false;
   out = value;
   return true;
 }
@@ -200,7 +230,7 @@ int HexValue(char c) {
 
 class BodyParser {
  public:
-  BodyParser(const Fields& fields, RigParseResult& result) : f_(fields), r_(result) {}
+  BodyParser(const Fields& fields, ParseOut& out) : f_(fields), r_(out) {}
 
   bool Count(std::size_t expected) {
     if (f_.count() == expected) return true;
@@ -239,7 +269,7 @@ class BodyParser {
 
  private:
   const Fields& f_;
-  RigParseResult& r_;
+  ParseOut& r_;
 };
 
 // TEXT may not contain " *", which would read as the start of a CRC.
@@ -327,11 +357,16 @@ bool ParseFields(const Fields& f, BodyParser& p, RigMessage& m) {
 }  // namespace
 
 std::uint16_t Crc16CcittFalse(std::string_view bytes) {
-  std::uint16_t crc = 0xFFFF;
-  for (unsigned char byte : bytes) {
-    crc = static_cast<std::uint16_t>((crc << 8) ^ kCrcTable[((crc >> 8) ^ byte) & 0xFF]);
+  const auto& t = kCrcTables;
+  const auto* p = reinterpret_cast<const unsigned char*>(bytes.data());
+  std::size_t n = bytes.size();
+  unsigned crc = 0xFFFF;
+  for (; n >= 8; p += 8, n -= 8) {
+    crc = t[7][(crc >> 8) ^ p[0]] ^ t[6][(crc & 0xFF) ^ p[1]] ^ t[5][p[2]] ^ t[4][p[3]] ^
+          t[3][p[4]] ^ t[2][p[5]] ^ t[1][p[6]] ^ t[0][p[7]];
   }
-  return crc;
+  for (; n > 0; ++p, --n) crc = ((crc << 8) & 0xFFFF) ^ t[0][(crc >> 8) ^ *p];
+  return static_cast<std::uint16_t>(crc);
 }
 
 std::string_view RigMessageWord(RigMessageKind kind) {
@@ -501,8 +536,9 @@ std::string_view RigParseStatusText(RigParseStatus status) {
 
 namespace {
 
-// Parses into `result` (reused by the splitter, so string members keep their capacity).
-void ParseInto(std::string_view line, RigParseResult& result) {
+// Parses into `result` (the splitter's event, reused line after line, so parsing allocates
+// nothing and copies nothing).
+void ParseInto(std::string_view line, ParseOut result) {
   if (!line.empty() && line.back() == '\n') {
     line.remove_suffix(1);
     if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
@@ -532,15 +568,14 @@ void ParseInto(std::string_view line, RigParseResult& result) {
     result.reason = "CRC does not match the line";
     return;
   }
-  for (char c : body) {
-    if (c < ' ' || c > '~') {
-      result.status = RigParseStatus::kMalformed;
-      result.reason = "contains a byte that is not printable ASCII";
-      return;
-    }
-  }
   Fields fields;
-  if (!fields.Split(body)) {
+  const Fields::Problem problem = fields.Split(body);
+  if (problem == Fields::Problem::kNotPrintable) {
+    result.status = RigParseStatus::kMalformed;
+    result.reason = "contains a byte that is not printable ASCII";
+    return;
+  }
+  if (problem == Fields::Problem::kEmptyField) {
     result.status = RigParseStatus::kMalformed;
     result.reason = "fields must be separated by exactly one space";
     return;
@@ -568,7 +603,7 @@ void ParseInto(std::string_view line, RigParseResult& result) {
 
 RigParseResult ParseRigLine(std::string_view line) {
   RigParseResult result;
-  ParseInto(line, result);
+  ParseInto(line, {result.message, result.status, result.reason});
   return result;
 }
 
@@ -585,13 +620,19 @@ void RigLineSplitter::Feed(std::string_view bytes, std::chrono::steady_clock::ti
   while (!bytes.empty()) {
     const void* found = std::memchr(bytes.data(), '\n', bytes.size());
     std::size_t take = found ? static_cast<const char*>(found) - bytes.data() : bytes.size();
+    if (found && line_.empty() && !overflow_) {
+      // The whole line is in these bytes: parse it where it is.
+      EndLine(bytes.substr(0, take), received);
+      bytes.remove_prefix(take + 1);
+      continue;
+    }
     // Keep at most one byte beyond the limit (a '\r' before "\n") plus one to detect overflow.
     std::size_t room = kRigMaxLineBytes + 2 - std::min(line_.size(), kRigMaxLineBytes + 2);
     if (take > room) overflow_ = true;
     line_.append(bytes.data(), std::min(take, room));
     if (!found) return;
     bytes.remove_prefix(take + 1);
-    EndLine(received);
+    EndLine(line_, received);
   }
 }
 
@@ -610,37 +651,33 @@ void RigLineSplitter::Finish() {
   handler_(event_);
 }
 
-void RigLineSplitter::EndLine(std::chrono::steady_clock::time_point received) {
+void RigLineSplitter::EndLine(std::string_view view,
+                              std::chrono::steady_clock::time_point received) {
   ++counts_.lines;
   event_.received = received;
-  RigParseResult result;
-  result.message = std::move(event_.message);
-  std::string_view view = line_;
   if (!view.empty() && view.back() == '\r') view.remove_suffix(1);
   if (overflow_ || view.size() > kRigMaxLineBytes) {
-    result.status = RigParseStatus::kTooLong;
-    result.reason = "longer than " + std::to_string(kRigMaxLineBytes) + " bytes";
+    event_.status = RigParseStatus::kTooLong;
+    event_.reason = "longer than " + std::to_string(kRigMaxLineBytes) + " bytes";
   } else {
-    ParseInto(view, result);
+    ParseInto(view, {event_.message, event_.status, event_.reason});
   }
-  if (result.status != RigParseStatus::kOk) {
+  if (event_.status != RigParseStatus::kOk) {
     ++counts_.rejected;
-    if (result.status == RigParseStatus::kBadCrc) ++counts_.bad_crc;
+    if (event_.status == RigParseStatus::kBadCrc) ++counts_.bad_crc;
     ++rejected_since_valid_;
     event_.kind = RigLineEvent::Kind::kRejected;
-    event_.status = result.status;
-    event_.reason = std::move(result.reason);
     event_.raw.assign(view.substr(0, kRigMaxLineBytes));
-    event_.message = std::move(result.message);
-    line_.clear();
+    line_.clear();  // `view` may point into it: not used below
     overflow_ = false;
     handler_(event_);
     return;
   }
   line_.clear();
   overflow_ = false;
+  event_.raw.clear();
   ++counts_.valid;
-  const std::uint32_t seq = result.message.seq;
+  const std::uint32_t seq = event_.message.seq;
   if (have_expected_ && seq != expected_) {
     const std::uint32_t ahead = seq - expected_;  // wraps
     if (ahead < 0x80000000u) {
@@ -660,10 +697,6 @@ void RigLineSplitter::EndLine(std::chrono::steady_clock::time_point received) {
   expected_ = seq + 1;
   rejected_since_valid_ = 0;
   event_.kind = RigLineEvent::Kind::kMessage;
-  event_.status = RigParseStatus::kOk;
-  event_.reason.clear();
-  event_.raw.clear();
-  event_.message = std::move(result.message);
   handler_(event_);
 }
 

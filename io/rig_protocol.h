@@ -210,7 +210,8 @@ class RigLineSplitter {
   const RigStreamCounts& counts() const { return counts_; }
 
  private:
-  void EndLine(std::chrono::steady_clock::time_point received);
+  // Parses one complete line (without "\n"), which lies in the fed bytes or in line_.
+  void EndLine(std::string_view line, std::chrono::steady_clock::time_point received);
 
   Handler handler_;
   std::string line_;
@@ -219,7 +220,7 @@ class RigLineSplitter {
   std::uint32_t expected_ = 0;
   std::uint64_t rejected_since_valid_ = 0;
   RigStreamCounts counts_;
-  RigLineEvent event_;  // reused between lines
+  RigLineEvent event_;  // reused between lines: each line is parsed straight into it
 };
 
 }  // namespace lw

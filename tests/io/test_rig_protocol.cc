@@ -9,6 +9,7 @@
 #include <fstream>
 #include <limits>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "lti/error.h"
@@ -39,6 +40,41 @@ TEST_CASE("CRC-16/CCITT-FALSE matches its published check value") {
   // Python's binascii.crc_hqx(data, 0xFFFF) is the same algorithm; more random lines are
   // compared with it in tests/reference/rig_protocol_vs_python.py.
   CHECK(Crc16CcittFalse("A") == 0xB915);
+}
+
+// The bitwise definition, as io/rig_protocol.md gives it to firmware authors: one bit at a time,
+// straight from the published parameters (polynomial 0x1021, initial value 0xFFFF, no
+// reflection, no final xor).
+std::uint16_t BitwiseCrc(std::string_view bytes) {
+  std::uint16_t crc = 0xFFFF;
+  for (unsigned char byte : bytes) {
+    crc ^= static_cast<std::uint16_t>(byte << 8);
+    for (int bit = 0; bit < 8; ++bit) {
+      crc = (crc & 0x8000) ? static_cast<std::uint16_t>((crc << 1) ^ 0x1021)
+                           : static_cast<std::uint16_t>(crc << 1);
+    }
+  }
+  return crc;
+}
+
+TEST_CASE("the table-driven CRC (8 bytes per step) equals the bitwise definition") {
+  // Every length from 0 to 300 bytes, so each tail length after the 8-byte steps occurs, over
+  // bytes of every value (a fixed linear congruential sequence, Numerical Recipes' constants).
+  std::string bytes;
+  std::uint32_t x = 12345;
+  for (int i = 0; i < 300; ++i) {
+    x = x * 1664525u + 1013904223u;
+    bytes += static_cast<char>(x >> 24);
+  }
+  for (std::size_t length = 0; length <= bytes.size(); ++length) {
+    for (std::size_t start : {std::size_t{0}, std::size_t{3}}) {
+      if (start + length > bytes.size()) continue;
+      const std::string_view piece = std::string_view(bytes).substr(start, length);
+      INFO("length ", length, " from ", start);
+      CHECK(Crc16CcittFalse(piece) == BitwiseCrc(piece));
+    }
+  }
+  CHECK(BitwiseCrc("123456789") == 0x29B1);  // the published check value
 }
 
 TEST_CASE("sealed lines carry four upper-case hex digits of the body's CRC") {
