@@ -178,34 +178,43 @@ template <Structure S, typename T>
 template <typename T>
 struct IntervalMap {
   T m00, m01, m10, m11, p0, p1, q0, q1;
+  T s0, s1;  // p + q: the input column when both inputs are equal (a held input)
 };
 
 template <typename T>
 IntervalMap<T> Compose(const PieceMap<T>& a, const PieceMap<T>& b) {
   // b after a: M = B A, p = B g_a, q = g_b.
-  return {b.m00 * a.m00 + b.m01 * a.m10,
-          b.m00 * a.m01 + b.m01 * a.m11,
-          b.m10 * a.m00 + b.m11 * a.m10,
-          b.m10 * a.m01 + b.m11 * a.m11,
-          b.m00 * a.g0 + b.m01 * a.g1,
-          b.m10 * a.g0 + b.m11 * a.g1,
-          b.g0,
-          b.g1};
+  IntervalMap<T> m{b.m00 * a.m00 + b.m01 * a.m10,
+                   b.m00 * a.m01 + b.m01 * a.m11,
+                   b.m10 * a.m00 + b.m11 * a.m10,
+                   b.m10 * a.m01 + b.m11 * a.m11,
+                   b.m00 * a.g0 + b.m01 * a.g1,
+                   b.m10 * a.g0 + b.m11 * a.g1,
+                   b.g0,
+                   b.g1,
+                   T(0.0),
+                   T(0.0)};
+  m.s0 = m.p0 + m.q0;
+  m.s1 = m.p1 + m.q1;
+  return m;
 }
 
 template <Structure S, typename T>
 [[gnu::always_inline]] inline void ApplyInterval(const IntervalMap<T>& m, T& x1, T& x2,
                                                  double u_old, double u_new) {
   using Sh = Shape<S>;
+  // Most samples of a step test see one held value across the interval: one input column.
+  const bool held = u_old == u_new;
   if constexpr (!Sh::kX2) {
-    x1 = m.m00 * x1 + (m.p0 * u_old + m.q0 * u_new);
+    x1 = m.m00 * x1 + (held ? m.s0 * u_new : m.p0 * u_old + m.q0 * u_new);
   } else {
-    T n1 = m.m00 * x1 + (m.p0 * u_old + m.q0 * u_new);
+    T n1 = m.m00 * x1 + (held ? m.s0 * u_new : m.p0 * u_old + m.q0 * u_new);
     if constexpr (Sh::kM01) n1 += m.m01 * x2;
+    const T in1 = held ? m.s1 * u_new : m.p1 * u_old + m.q1 * u_new;
     if constexpr (Sh::kM11IsOne) {
-      x2 += m.m10 * x1 + (m.p1 * u_old + m.q1 * u_new);
+      x2 += m.m10 * x1 + in1;
     } else {
-      x2 = m.m10 * x1 + m.m11 * x2 + (m.p1 * u_old + m.q1 * u_new);
+      x2 = m.m10 * x1 + m.m11 * x2 + in1;
     }
     x1 = n1;
   }
