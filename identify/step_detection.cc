@@ -58,8 +58,12 @@ void LongestRunAt(std::span<const double> y, std::span<const double> t, double l
 
 double DifferenceNoiseSd(std::span<const double> x) {
   if (x.size() < 3) return 0.0;
-  // The differences are formed on the fly (no copy of the series).
+  // The differences are formed on the fly (no copy of the series). A held input repeats its
+  // value: when more than half the differences are exactly zero both medians are zero.
   const size_t n = x.size() - 1;
+  size_t repeats = 0;
+  for (size_t i = 0; i < n; ++i) repeats += x[i + 1] == x[i];
+  if (repeats > n / 2) return 0.0;
   const double med = MedianOf(n, [&](size_t i) { return x[i + 1] - x[i]; });
   return 1.4826 * MedianOf(n, [&](size_t i) { return std::abs((x[i + 1] - x[i]) - med); }) /
          std::sqrt(2.0);
