@@ -1,8 +1,8 @@
 #include "io/rig_limits.h"
 
 #include <algorithm>
-#include <charconv>
 #include <cmath>
+#include <optional>
 #include <string_view>
 
 #include "io/rig_profile.h"
@@ -139,20 +139,11 @@ RigLimits LimitsFromProfile(const RigProfile& p) {
 }
 
 std::pair<double, double> ParseRange(const std::string& text, const std::string& option) {
-  auto number = [](std::string_view part, double& v) {
-    if (!part.empty() && part.front() == '+') part.remove_prefix(1);
-    auto [end, ec] = std::from_chars(part.data(), part.data() + part.size(), v);
-    return !part.empty() && ec == std::errc() && end == part.data() + part.size() &&
-           std::isfinite(v);
-  };
-  std::string_view all(text);
-  size_t colon = all.find(':');
-  double lo = 0.0, hi = 0.0;
-  if (colon == std::string_view::npos || !number(all.substr(0, colon), lo) ||
-      !number(all.substr(colon + 1), hi) || !(lo < hi)) {
+  const std::optional<std::pair<double, double>> pair = ParseNumberPair(text);
+  if (!pair || !(pair->first < pair->second)) {
     throw UsageError(option + " '" + text + "': expected LO:HI with two numbers, LO < HI");
   }
-  return {lo, hi};
+  return *pair;
 }
 
 }  // namespace lw

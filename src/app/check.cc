@@ -32,31 +32,13 @@
 #include "io/figure.h"
 #include "io/recording.h"
 #include "io/response_figure.h"
+#include "io/rig_limits.h"
 #include "lti/error.h"
 
 namespace lw::app {
 namespace {
 
 using nlohmann::json;
-
-ActuatorLimits ParseLimits(const std::string& text) {
-  const auto bad = [&]() {
-    return UsageError("--actuator '" + text + "': expected LO:HI, two numbers with LO < HI");
-  };
-  const size_t colon = text.find(':');
-  if (colon == std::string::npos) throw bad();
-  ActuatorLimits a;
-  try {
-    size_t used_lo = 0, used_hi = 0;
-    a.low = std::stod(text.substr(0, colon), &used_lo);
-    a.high = std::stod(text.substr(colon + 1), &used_hi);
-    if (used_lo != colon || used_hi != text.size() - colon - 1) throw bad();
-  } catch (const std::logic_error&) {
-    throw bad();
-  }
-  if (!(std::isfinite(a.low) && std::isfinite(a.high) && a.low < a.high)) throw bad();
-  return a;
-}
 
 json MetricsJson(const StepCheck& st, double MetricCheck::*field) {
   json o = json::object();
@@ -141,7 +123,10 @@ class CheckCommand : public Command {
     const Controller controller = controller_.Parse();
     const double gain = controller_.gain();
     ClosedLoopCheckOptions o;
-    if (!actuator_.empty()) o.actuator = ParseLimits(actuator_);
+    if (!actuator_.empty()) {
+      const auto [lo, hi] = ParseRange(actuator_, "--actuator");
+      o.actuator = ActuatorLimits{lo, hi};
+    }
     o.seed = seed_;
     Table table = ReadCsv(recording_);
     Recording rec = SelectColumns(table, columns_.names(), /*need_input=*/false,

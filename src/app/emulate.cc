@@ -24,33 +24,13 @@
 #include "app/output.h"
 #include "io/rig_emulator.h"
 #include "io/rig_emulator_server.h"
+#include "io/rig_limits.h"
 #include "io/rig_scenario.h"
 #include "lti/error.h"
 #include "lti/plant_formula.h"
 
 namespace lw::app {
 namespace {
-
-// "LO:HI" with finite LO < HI.
-std::pair<double, double> ParseRange(const std::string& text) {
-  auto fail = [&]() -> std::pair<double, double> {
-    throw UsageError("--saturate '" + text + "': expected LO:HI with two numbers, LO < HI");
-  };
-  const std::size_t colon = text.find(':');
-  if (colon == std::string::npos) return fail();
-  try {
-    std::size_t used = 0;
-    const std::string lo_text = text.substr(0, colon), hi_text = text.substr(colon + 1);
-    const double lo = std::stod(lo_text, &used);
-    if (used != lo_text.size()) return fail();
-    const double hi = std::stod(hi_text, &used);
-    if (used != hi_text.size()) return fail();
-    if (!(std::isfinite(lo) && std::isfinite(hi) && lo < hi)) return fail();
-    return {lo, hi};
-  } catch (const std::logic_error&) {
-    return fail();
-  }
-}
 
 // "tcp:HOST:PORT" with an IP address (IPv6 in brackets) and PORT 0..65535 (0: any free port).
 void ParseListen(const std::string& text, RigEmulatorServerOptions& options) {
@@ -200,7 +180,7 @@ class EmulateCommand : public Command {
                        "100000 Hz");
     }
     o.period_us = static_cast<std::int64_t>(std::llround(1e6 / rate));
-    if (!saturate_.empty()) range = ParseRange(saturate_);
+    if (!saturate_.empty()) range = ParseRange(saturate_, "--saturate");
     o.actuator_lo = range.first;
     o.actuator_hi = range.second;
     if (safe_) {

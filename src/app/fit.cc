@@ -30,6 +30,7 @@
 #include <limits>
 #include <optional>
 #include <string>
+#include <tuple>
 #include <vector>
 
 #include <filesystem>
@@ -52,6 +53,7 @@
 #include "io/recording.h"
 #include "io/sha256.h"
 #include "lti/error.h"
+#include "lti/number_text.h"
 
 namespace lw::app {
 namespace {
@@ -60,26 +62,12 @@ constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
 // "T0:T1" with either side optional ("5:" from 5 s on, ":20" up to 20 s).
 void ParseWindow(const std::string& text, double& t0, double& t1) {
-  auto fail = [&] {
+  constexpr double kInf = std::numeric_limits<double>::infinity();
+  const auto pair = ParseNumberPair(text, -kInf, kInf);
+  if (!pair || !(pair->first < pair->second)) {
     throw UsageError("--window '" + text + "': expected T0:T1 in seconds with T0 < T1");
-  };
-  size_t colon = text.find(':');
-  if (colon == std::string::npos) fail();
-  auto number = [&](const std::string& s, double dflt) {
-    if (s.empty()) return dflt;
-    size_t used = 0;
-    double v = 0.0;
-    try {
-      v = std::stod(s, &used);
-    } catch (const std::logic_error&) {
-      fail();
-    }
-    if (used != s.size() || !std::isfinite(v)) fail();
-    return v;
-  };
-  t0 = number(text.substr(0, colon), -std::numeric_limits<double>::infinity());
-  t1 = number(text.substr(colon + 1), std::numeric_limits<double>::infinity());
-  if (!(t0 < t1)) fail();
+  }
+  std::tie(t0, t1) = *pair;
 }
 
 nlohmann::json ParameterJson(const ParameterEstimate& p) {

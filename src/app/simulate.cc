@@ -28,12 +28,13 @@
 #include "app/controller_option.h"
 #include "app/model_source.h"
 #include "app/output.h"
-#include "lti/saturated_loop.h"
 #include "io/csv_reader.h"
 #include "io/csv_writer.h"
 #include "io/recording.h"
+#include "io/rig_limits.h"
 #include "lti/error.h"
 #include "lti/input_signal.h"
+#include "lti/saturated_loop.h"
 #include "lti/simulate.h"
 #include "lti/step_metrics.h"
 
@@ -41,30 +42,6 @@ namespace lw::app {
 namespace {
 
 constexpr long kMaxSamples = 50'000'000;
-
-// "LO:HI" with LO < HI.
-ActuatorLimits ParseLimits(const std::string& text) {
-  auto fail = [&]() -> ActuatorLimits {
-    throw UsageError("--saturate '" + text + "': expected LO:HI with two numbers, LO < HI");
-  };
-  size_t colon = text.find(':');
-  if (colon == std::string::npos) return fail();
-  ActuatorLimits limits;
-  try {
-    size_t used = 0;
-    std::string lo = text.substr(0, colon), hi = text.substr(colon + 1);
-    limits.low = std::stod(lo, &used);
-    if (used != lo.size()) return fail();
-    limits.high = std::stod(hi, &used);
-    if (used != hi.size()) return fail();
-  } catch (const std::logic_error&) {
-    return fail();
-  }
-  if (!(std::isfinite(limits.low) && std::isfinite(limits.high) && limits.low < limits.high)) {
-    return fail();
-  }
-  return limits;
-}
 
 // White Gaussian noise, reproducible everywhere: mt19937_64 (fully specified by the C++
 // standard) and the Box-Muller transform (std::normal_distribution differs between libraries).
@@ -188,7 +165,10 @@ class SimulateCommand : public Command {
     options.initial =
         start_ == "zero" ? SimulateOptions::Initial::kZero : SimulateOptions::Initial::kSteadyState;
     std::optional<ActuatorLimits> limits;
-    if (!saturate_.empty()) limits = ParseLimits(saturate_);
+    if (!saturate_.empty()) {
+      const auto [lo, hi] = ParseRange(saturate_, "--saturate");
+      limits = ActuatorLimits{lo, hi};
+    }
 
     std::vector<std::string> names;
     std::vector<double> r, u, y;

@@ -27,21 +27,12 @@ namespace lw::app {
 
 // "A:B" with two finite numbers, A != B; UsageError naming --ref-step otherwise.
 std::pair<double, double> ParseRefStep(const std::string& text) {
-  size_t colon = text.find(':');
-  try {
-    if (colon == std::string::npos) throw std::invalid_argument("colon");
-    size_t used_a = 0, used_b = 0;
-    double a = std::stod(text.substr(0, colon), &used_a);
-    double b = std::stod(text.substr(colon + 1), &used_b);
-    if (used_a != colon || used_b != text.size() - colon - 1 || !std::isfinite(a) ||
-        !std::isfinite(b) || a == b) {
-      throw std::invalid_argument("values");
-    }
-    return {a, b};
-  } catch (const std::exception&) {
+  const auto pair = ParseNumberPair(text);
+  if (!pair || pair->first == pair->second) {
     throw UsageError("--ref-step '" + text +
                      "': expected A:B, the reference before and after the step (A != B)");
   }
+  return *pair;
 }
 
 // The actuator range as --actuator text for check, or "" when unbounded.

@@ -204,6 +204,18 @@ def case_units_and_text():
         check(abs(float(m.group(1)) - 1.5) < 0.02 and abs(float(m.group(3)) - 3) < 0.05,
               f"line shows K ~ 1.5 and tau ~ 3 ({first})")
     check("degC/%" in out, "gain unit degC/% from the column names")
+    # --window T0:T1, either side open: t = 0.1 i, so 1 <= t takes i = 10 .. 300 (291 samples)
+    # and t <= 25 takes i = 0 .. 250 (251).
+    for window, samples in (("1:", 291), (":25", 251), ("1:25", 241)):
+        doc = fit_json(path("units.csv"), "--time", "time", "--input", "2", "--output", "3",
+                       "--structure", "fopdt", "--window", window)
+        check(doc is not None and doc["samples"] == samples,
+              f"--window {window} keeps {samples} samples ({doc and doc['samples']})")
+    for bad in ("25:1", "5", "a:5", "1:2:3", "2:2"):
+        code, _, err = run("fit", path("units.csv"), "--time", "time", "--input", "2", "--output",
+                           "3", "--window", bad)
+        check(code == 2 and f"--window '{bad}': expected T0:T1" in err,
+              f"--window {bad}: exit 2 naming the option ({code}: {err.strip()})")
     doc = fit_json(path("units.csv"), "--time", "time", "--input", "2", "--output", "3",
                    "--structure", "fopdt", "--output-unit", "K")
     if doc:
