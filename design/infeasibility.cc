@@ -50,32 +50,29 @@ double SlowestOther(const LoopPolynomials& loop, double k) {
   return slowest;
 }
 
+// The dominant-pair bounds of a Region, each with the pole shape it bounds.
+struct ShapeBound {
+  const char* name;
+  double Region::*bound;
+  double PoleShape::*shape;
+  const char* unit;  // with its leading space, or empty
+};
+constexpr ShapeBound kShapeBounds[] = {{"wn", &Region::wn_min, &PoleShape::wn, " rad/s"},
+                                       {"zeta", &Region::zeta_min, &PoleShape::zeta, ""},
+                                       {"sigma", &Region::sigma_min, &PoleShape::sigma, " 1/s"},
+                                       {"wd", &Region::wd_min, &PoleShape::wd, " rad/s"}};
+
 std::vector<Requirement> Requirements(const Region& r) {
   std::vector<Requirement> out;
-  auto shape = [](const LoopPolynomials& l, double k) { return JudgeGain(l, Region{}, k).shape; };
-  if (r.wn_min > 0) {
+  for (const ShapeBound& b : kShapeBounds) {
+    if (!(r.*b.bound > 0)) continue;
     Region a;
-    a.wn_min = r.wn_min;
-    out.push_back({"wn", "wn >= " + Num(r.wn_min) + " rad/s", a,
-                   [=](const LoopPolynomials& l, double k) { return shape(l, k).wn; }});
-  }
-  if (r.zeta_min > 0) {
-    Region a;
-    a.zeta_min = r.zeta_min;
-    out.push_back({"zeta", "zeta >= " + Num(r.zeta_min), a,
-                   [=](const LoopPolynomials& l, double k) { return shape(l, k).zeta; }});
-  }
-  if (r.sigma_min > 0) {
-    Region a;
-    a.sigma_min = r.sigma_min;
-    out.push_back({"sigma", "sigma >= " + Num(r.sigma_min) + " 1/s", a,
-                   [=](const LoopPolynomials& l, double k) { return shape(l, k).sigma; }});
-  }
-  if (r.wd_min > 0) {
-    Region a;
-    a.wd_min = r.wd_min;
-    out.push_back({"wd", "wd >= " + Num(r.wd_min) + " rad/s", a,
-                   [=](const LoopPolynomials& l, double k) { return shape(l, k).wd; }});
+    a.*b.bound = r.*b.bound;
+    const auto shape = b.shape;
+    out.push_back({b.name, std::string(b.name) + " >= " + Num(r.*b.bound) + b.unit, a,
+                   [shape](const LoopPolynomials& l, double k) {
+                     return JudgeGain(l, Region{}, k).shape.*shape;
+                   }});
   }
   if (r.decay_min > 0) {
     Region a;
