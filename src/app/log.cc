@@ -1,12 +1,14 @@
 // `loopwright log [--kind KIND] [--last N] [--recordings] [--json]`
 //
 // The history of the rig workspace (app/workspace.h): every logged result, oldest first, with its
-// time, kind, outcome, a one-line summary and the recordings it read; or with --recordings every
-// recording the logbook has seen, with its SHA-256, size and when it was first seen. The logbook
-// is opened read-only, so `log` works while another command is writing.
+// time, kind, outcome, a summary (wrapped between its pieces, never cut) and the recordings it
+// read; or with --recordings every recording the logbook has seen, with its SHA-256, size and
+// when it was first seen. The logbook is opened read-only, so `log` works while another command
+// is writing.
 #include <filesystem>
 #include <memory>
 #include <string>
+#include <vector>
 
 #include <nlohmann/json.hpp>
 
@@ -23,6 +25,8 @@ namespace {
 namespace fs = std::filesystem;
 using nlohmann::json;
 
+constexpr size_t kSummaryWidth = 60;  // characters of the summary column before it wraps
+
 // A JSON value in a few characters: numbers with 4 significant digits, strings as they are.
 std::string Short(const json& v) {
   if (v.is_number()) return FormatNumber(v.get<double>());
@@ -32,25 +36,36 @@ std::string Short(const json& v) {
   return v.dump();
 }
 
-// One line about a result: a fit's structure and parameters, otherwise its first few plain
-// top-level fields.
-std::string SummaryLine(const LoggedResult& r) {
-  std::string line;
-  auto add = [&](const std::string& piece) { line += (line.empty() ? "" : "  ") + piece; };
+// The pieces of the summary of a result: a fit's structure and "name=value" for each parameter,
+// otherwise its first few plain top-level fields as "key=value".
+std::vector<std::string> SummaryPieces(const LoggedResult& r) {
+  std::vector<std::string> pieces;
   if (!r.parameters.empty()) {
-    add(r.parameters.front().structure);
-    for (const auto& p : r.parameters) add(p.name + "=" + FormatNumber(p.value));
+    pieces.push_back(r.parameters.front().structure);
+    for (const auto& p : r.parameters) pieces.push_back(p.name + "=" + FormatNumber(p.value));
   } else if (r.summary.is_object()) {
-    int shown = 0;
     for (const auto& [key, value] : r.summary.items()) {
-      if (value.is_structured() || shown == 3) continue;
-      add(key + "=" + Short(value));
-      ++shown;
+      if (value.is_structured()) continue;
+      pieces.push_back(key + "=" + Short(value));
+      if (pieces.size() == 3) break;
     }
   }
-  constexpr size_t kMax = 64;
-  if (line.size() > kMax) line = line.substr(0, kMax - 3) + "...";
-  return line;
+  return pieces;
+}
+
+// The pieces joined by two spaces into lines of at most `width` characters, broken only between
+// pieces (a piece longer than that has a line of its own): nothing is cut off.
+std::vector<std::string> WrapPieces(const std::vector<std::string>& pieces, size_t width) {
+  std::vector<std::string> lines;
+  for (const std::string& piece : pieces) {
+    if (!lines.empty() && lines.back().size() + 2 + piece.size() <= width) {
+      lines.back() += "  " + piece;
+    } else {
+      lines.push_back(piece);
+    }
+  }
+  if (lines.empty()) lines.emplace_back();
+  return lines;
 }
 
 json RecordingJson(const LoggedRecording& rec) {
@@ -104,7 +119,10 @@ class LogCommand : public Command {
         recs += (recs.empty() ? "" : ", ") + fs::path(rec.path).filename().string();
       }
       std::string outcome = r.outcome == "ok" ? Good(ctx, r.outcome) : Caution(ctx, r.outcome);
-      table.AddRow({std::to_string(r.id), r.time, r.kind, outcome, SummaryLine(r), recs});
+      // A long summary goes on as many lines as it needs, below in the same column.
+      const std::vector<std::string> summary = WrapPieces(SummaryPieces(r), kSummaryWidth);
+      table.AddRow({std::to_string(r.id), r.time, r.kind, outcome, summary.front(), recs});
+      for (size_t i = 1; i < summary.size(); ++i) table.AddRow({"", "", "", "", summary[i], ""});
     }
     table.Print(ctx.out);
     return 0;

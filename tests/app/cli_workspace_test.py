@@ -167,6 +167,24 @@ def case_log():
     check(ids == [3], f"--kind fit --last 1 ({ids})")
     code, out, _ = run("log", "--rig", ws)
     check(code == 0 and "fopdt" in out and "step_a.csv" in out, "human log lists the fits")
+    # A five-parameter fit: its summary is longer than a line and is wrapped, never cut.
+    code, _, err = run("--rig", ws, "fit", rec, "--structure", "sopdt-zero")
+    check(code == 0, f"sopdt-zero fit in the workspace exits 0 ({err.strip()})")
+    code, out, _ = run("log", "--rig", ws)
+    doc = json.loads(run("log", "--json", "--rig", ws)[1])
+    names = [p["name"] for p in doc["results"][-1]["summary"]["parameters"]]
+    check(len(names) == 5, f"five parameters logged ({names})")
+    rows = out.splitlines()
+    last = next((i for i, l in enumerate(rows) if "sopdt-zero" in l), len(rows))
+    shown = " ".join(rows[last:])
+    check(all(f"{n}=" in shown for n in names), f"every parameter is shown ({shown!r})")
+    check("..." not in out, f"no summary is cut short ({out!r})")
+    check(len(rows) - last >= 2, f"the long summary is wrapped onto more lines ({rows[last:]})")
+    # Each continuation line holds only the summary column, under the first line's summary.
+    col = rows[last].index("sopdt-zero")
+    for l in rows[last + 1:]:
+        check(l[:col].strip() == "" and len(l[col:].rstrip()) <= 60,
+              f"continuation in the summary column, at most 60 characters ({l!r})")
     # Outside a workspace nothing is logged and nothing is written.
     code, _, _ = run("fit", rec, "--structure", "fopdt")
     check(code == 0 and sorted(os.listdir(WORK)) == ["step_a.csv", "ws"],
