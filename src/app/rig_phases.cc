@@ -19,6 +19,13 @@ constexpr size_t kBaselineSamples = 30;
 
 double Seconds(const RigSample& s) { return static_cast<double>(s.t_us) / 1e6; }
 
+// The mean output of samples [first, last).
+double MeanOutput(const std::vector<RigSample>& samples, size_t first, size_t last) {
+  double sum = 0.0;
+  for (size_t k = first; k < last; ++k) sum += samples[k].output;
+  return last > first ? sum / static_cast<double>(last - first) : NAN;
+}
+
 void WaitFirstSample(RigSession& s, RigProgress& progress) {
   s.WaitUntil([&] { return !s.samples().empty(); }, [&] { progress.Show("waiting for samples"); });
 }
@@ -110,6 +117,7 @@ namespace {
 struct StepActions {
   std::function<bool()> start;  // true: the hold must see the output move before it rests
   std::function<void()> step, finish;
+  std::function<bool(const RigSample&)> shows_step;  // a sample taken after the step
   std::string hold_phase, step_phase, note;
 };
 
@@ -130,24 +138,41 @@ StepOutcome RunStep(Context& ctx, RigSession& s, const PhaseTiming& timing, cons
                 [&] { progress.Show(a.hold_phase); });
   }
   auto sink = StartRecording(s, path, provenance);
+  const size_t baseline = s.samples().size();
   double baseline_s = timing.settle_s ? *timing.settle_s / 4.0 : 0.0;
   RecordBaseline(s, progress, s.dry_run() ? 0 : kBaselineSamples, baseline_s);
-  if (!s.dry_run()) out.level_before = s.samples().back().output;
-  s.Note(a.note);
   size_t step = s.samples().size();
+  // The mean, not the last sample: a closed loop run towards one noisy sample would first have
+  // to move there.
+  if (!s.dry_run()) out.level_before = MeanOutput(s.samples(), baseline, step);
+  s.Note(a.note);
   a.step();
-  if (!s.dry_run()) out.step_time_s = Seconds(s.samples().back());
-  // A slow response can look at rest just after it starts to move; the response is recorded
-  // for at least the hold time too (tune sets it to the step test's length).
-  if (!s.dry_run() && timing.min_hold_s > 0.0) {
-    s.WaitUntil([&] { return Seconds(s.samples().back()) - out.step_time_s >= timing.min_hold_s; },
-                [&] { progress.Show(a.step_phase); });
+  if (!s.dry_run()) {
+    // The step's rig time: the first sample that shows it (the rig acts on a line at its next
+    // instant; the host's own delay does not count).
+    size_t k = step;
+    s.WaitUntil([&] {
+      for (; k < s.samples().size(); ++k) {
+        if (a.shows_step(s.samples()[k])) return true;
+      }
+      return false;
+    });
+    out.step_time_s = Seconds(s.samples()[k]);
+  }
+  // A slow response can look at rest just after it starts to move, or while it still creeps
+  // towards its final value; the response is recorded for at least min_response_s (tune: the
+  // step test's length, and twice the predicted settling time in closed loop).
+  if (!s.dry_run() && timing.min_response_s > 0.0) {
+    s.WaitUntil(
+        [&] { return Seconds(s.samples().back()) - out.step_time_s >= timing.min_response_s; },
+        [&] { progress.Show(a.step_phase); });
   }
   WaitForRest(s, progress, a.step_phase, step, timing, true);
   progress.End();
   StopRecording(s, sink, out);
   if (!s.dry_run()) {
-    out.level_after = s.samples().back().output;
+    const size_t n = s.samples().size();
+    out.level_after = MeanOutput(s.samples(), n - std::min(n - step, kBaselineSamples), n);
     out.duration_s = Seconds(s.samples().back()) - out.step_time_s;
   }
   if (a.finish) a.finish();
@@ -170,6 +195,9 @@ StepOutcome RunOpenLoopStep(Context& ctx, RigSession& s, double from, double to,
   };
   a.step = [&] { s.SetActuator(to); };
   a.finish = [&] { s.SetActuator(from); };
+  a.shows_step = [&](const RigSample& x) {
+    return std::abs(x.actuator - to) <= 0.5 * std::abs(to - from);
+  };
   a.hold_phase = "hold at " + FormatNumber(from, 6);
   a.step_phase = "step to " + FormatNumber(to, 6);
   a.note = "step: actuator " + FormatNumber(from, 9) + " -> " + FormatNumber(to, 9);
@@ -186,6 +214,9 @@ StepOutcome RunClosedLoopStep(Context& ctx, RigSession& s, const std::string& co
     return false;
   };
   a.step = [&] { s.SetReference(ref_to); };
+  a.shows_step = [&](const RigSample& x) {
+    return std::abs(x.reference - ref_to) <= 0.5 * std::abs(ref_to - ref_from);
+  };
   a.hold_phase = "closed loop at " + FormatNumber(ref_from, 6);
   a.step_phase = "reference " + FormatNumber(ref_to, 6);
   a.note = "reference step: " + FormatNumber(ref_from, 9) + " -> " + FormatNumber(ref_to, 9);

@@ -31,8 +31,10 @@ namespace lw::app {
 struct PhaseTiming {
   std::optional<double> settle_s;  // fixed seconds per phase; none: auto
   double max_wait_s = 3600.0;      // rig seconds per phase, > 0
-  double min_hold_s = 0.0;         // the hold before a step, and the recorded response after
-                                   // it, last at least this long
+  double min_hold_s = 0.0;         // the hold before a step lasts at least this long (s)
+  double min_response_s = 0.0;     // the response recorded after the step lasts at least this
+                                   // long (s): a slow response can look at rest while it still
+                                   // creeps towards its final value
 };
 
 // "auto" or a number of seconds > 0; UsageError naming --settle otherwise.
@@ -46,9 +48,9 @@ void WaitForRest(RigSession& s, RigProgress& progress, const std::string& phase,
 struct StepOutcome {
   std::string path;           // the recording ("" in a dry run)
   uint64_t samples = 0;       // rows written
-  double step_time_s = 0.0;   // rig time of the step (s)
-  double level_before = 0.0;  // y at rest before the step
-  double level_after = 0.0;   // y at the end of the recording
+  double step_time_s = 0.0;   // rig time of the first sample after the step (s)
+  double level_before = 0.0;  // mean y of the baseline before the step
+  double level_after = 0.0;   // mean y of the last 30 samples of the recording
   double duration_s = 0.0;    // rig seconds recorded
 };
 

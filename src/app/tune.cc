@@ -13,7 +13,10 @@
 //   4. the proposal is shown and confirmed (on a terminal, else --yes)
 //   5. `predict` at that gain -> prediction.json
 //   6. apply and verify: loop C K A, rest, reference A -> B, rest -> closed_loop.csv (default A
-//      the output's level at U0, B = A + half the output change of the step test); safe stop
+//      the output's mean level at U0, B = A + half the output change of the step test; the hold
+//      before the step lasts at least the step test's length and the predicted settling time,
+//      the recorded response the step test's length and twice the predicted settling time);
+//      safe stop
 //   7. `check` -> check.json, the verdict;  8. `report` -> report.html
 // The rig session (heartbeat, trips, signals) stays open from 1 to 6. Exit status: check's
 // (0 confirmed, 1 stale or saturated), or the first failure's.
@@ -21,6 +24,7 @@
 // CRC included), then steps 2 to 8 as they would run, the commands with K for the proposed gain
 // and A:B for the verification step where only the step test can tell them; with --gain and
 // --ref-step both given, step 6's lines are printed exactly too.
+#include <algorithm>
 #include <chrono>
 #include <cmath>
 #include <ctime>
@@ -179,7 +183,14 @@ class TuneCommand : public Command {
     Banner(
         ctx, 6,
         "apply and verify: closed-loop step " + FormatNumber(a, 6) + " -> " + FormatNumber(b, 6));
-    timing.min_hold_s = step.duration_s;  // the loop starts on a plant still coming back to U0
+    // The loop starts on a plant still coming back to U0, and the check assumes it at rest at A
+    // before the step: the hold lasts the step test's length and the predicted settling time.
+    // The response is recorded for the step test's length and twice the predicted settling
+    // time, so the tail the check takes the final value from (the last fifth of the record,
+    // lti/step_metrics.h) lies well past settling.
+    const double settle = PredictedSettlingTime(file("prediction.json"));
+    timing.min_hold_s = std::max(step.duration_s, settle);
+    timing.min_response_s = std::max(step.duration_s, 2.0 * settle);
     StepOutcome verify = RunClosedLoopStep(ctx, *session, controller.ToString(), gain, a, b, timing,
                                            file("closed_loop.csv"), tag);
     session->SafeStop("tune: closed-loop step recorded");
@@ -269,7 +280,7 @@ class TuneCommand : public Command {
     ctx.out << "\ndry run: the step test's lines end here; then tune would do what follows";
     if (!gain_known) ctx.out << "; K is the gain the band recommends";
     if (!ref) {
-      ctx.out << "; A is the output's level at rest before the step test's step and "
+      ctx.out << "; A is the output's mean level before the step test's step and "
                  "B = A + half the step test's output change";
     }
     ctx.out << "\n";
@@ -299,7 +310,10 @@ class TuneCommand : public Command {
       ctx.out << "  lines (their numbers known once the fit is done): go; loop " << c << " " << k
               << " " << a << "; at rest, ref " << b << "; at rest, halt; safe\n";
     }
-    ctx.out << "  the step from its baseline recorded to " << file("closed_loop.csv") << "\n";
+    ctx.out << "  the step from its baseline recorded to " << file("closed_loop.csv")
+            << " after a hold of at least the step test's length and the predicted settling "
+               "time; the response for at least the step test's length and twice the predicted "
+               "settling time\n";
     Banner(ctx, 7, "check the model against the closed-loop step");
     PrintCommand(ctx, "check", plan.check);
     Banner(ctx, 8, "report");
@@ -320,6 +334,19 @@ class TuneCommand : public Command {
     any = add("--zeta-min", zeta_min_, profile.zeta_min) || any;
     any = add("--settle-max", settle_max_, profile.settle_max) || any;
     if (!any) args.insert(args.end(), {"--overshoot-max", "10"});
+  }
+
+  // The settling time `predict` wrote, in seconds; 0 when it names none (never settles within
+  // its horizon).
+  static double PredictedSettlingTime(const std::string& prediction_path) {
+    std::ifstream in(prediction_path);
+    nlohmann::json doc = nlohmann::json::parse(in, nullptr, /*allow_exceptions=*/false);
+    if (doc.is_discarded() || !doc.contains("metrics") || !doc["metrics"].is_object() ||
+        !doc["metrics"].contains("settling_time") || !doc["metrics"]["settling_time"].is_number()) {
+      return 0.0;
+    }
+    const double settle = doc["metrics"]["settling_time"].get<double>();
+    return std::isfinite(settle) && settle > 0.0 ? settle : 0.0;
   }
 
   static double RecommendedGain(const std::string& band_path) {
