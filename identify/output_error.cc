@@ -37,8 +37,8 @@ class RowSink {
 // Calls row(index, residual, jacobian_row_or_null) for every fitted sample of structure S. The
 // Jacobian row has the full layout (FullParameterCount entries).
 template <Structure S, typename Sink>
-void ForEachRowOf(const OutputErrorProblem& pb, const SampleGrid& grid, std::span<const double> x,
-                  bool with_jacobian, Sink& row) {
+[[gnu::flatten]] void ForEachRowOf(const OutputErrorProblem& pb, const SampleGrid& grid,
+                                   std::span<const double> x, bool with_jacobian, Sink& row) {
   constexpr int D = DynamicCount(S);
   constexpr bool kZero = S == Structure::kSopdtZero;
   // y = K x1 (fopdt, underdamped) or K x2 (sopdt, integrating); sopdt-zero weights both.
@@ -124,6 +124,12 @@ void Rows(const OutputErrorProblem& pb, std::span<const double> x, bool with_jac
 size_t ResidualCount(const OutputErrorProblem& pb) {
   return pb.t.size() > pb.first_residual ? pb.t.size() - pb.first_residual : 0;
 }
+
+// Stores residual i at out[i].
+struct ResidualWriter {
+  double* out;
+  void operator()(size_t i, double r, const double*) { out[i] = r; }
+};
 
 // The sum of squared residuals, and whether every residual was finite.
 struct SquareSum {
@@ -398,6 +404,12 @@ std::vector<std::string> FullParameterNames(Structure s) {
 
 void EvaluateOutputError(const OutputErrorProblem& problem, std::span<const double> x,
                          double* residuals, double* jacobian) {
+  if (jacobian == nullptr) {
+    // Residuals only (the fit's quality on every sample): a direct sink, no call per row.
+    ResidualWriter writer{residuals};
+    Rows(problem, MakeSampleGrid(problem.t), x, false, writer);
+    return;
+  }
   const int p = FullParameterCount(problem.structure);
   auto sink = [&](size_t i, double r, const double* jrow) {
     residuals[i] = r;
