@@ -8,6 +8,14 @@
 
 namespace lw {
 
+double WholeTickInterval(int count) {
+  for (double decade = 1.0;; decade *= 10.0) {
+    for (double step : {1.0, 2.0, 5.0}) {
+      if (count <= 10.0 * step * decade) return step * decade;
+    }
+  }
+}
+
 void WriteDriftFigure(const std::string& path, const DriftFigureData& d) {
   auto fail = [&](const std::string& why) {
     throw UsageError("drift figure '" + path + "': " + why);
@@ -27,7 +35,9 @@ void WriteDriftFigure(const std::string& path, const DriftFigureData& d) {
   Figure fig(path, 900, 220 + 190 * panels, std::vector<double>(d.series.size(), 1.0),
              static_cast<int>(d.caption.size()));
   // Half a fit of room on either side; at least two fits wide so one fit sits in the middle.
-  const Axis x_axis{"fit (logbook order)", 0.5, std::max(1.5, d.fits + 0.5)};
+  // Fit numbers are whole: ticks every 1, 2 or 5 times a power of ten fits, at most 10 of them.
+  Axis x_axis{"fit (logbook order)", 0.5, std::max(1.5, d.fits + 0.5)};
+  x_axis.tick = WholeTickInterval(d.fits);
   const double tick = 0.08;  // half-width of an interval bar's end ticks, in fits
   for (int p = 0; p < panels; ++p) {
     const DriftSeries& s = d.series[p];

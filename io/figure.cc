@@ -211,6 +211,9 @@ void Figure::BeginPanel(int index, const Axis& x, const Axis& y, const std::stri
       throw UsageError("figure '" + s.path + "': axis '" + a->label + "' needs finite lo < hi");
     if (a->log && !(a->lo > 0))
       throw UsageError("figure '" + s.path + "': log axis '" + a->label + "' needs lo > 0");
+    if (!(std::isfinite(a->tick) && a->tick >= 0.0) || (a->log && a->tick > 0.0))
+      throw UsageError("figure '" + s.path + "': axis '" + a->label +
+                       "' tick must be 0 or, on a linear axis, a finite interval > 0");
   }
   s.Select();
   // Stack the panels between the caption area and the top margin; only the bottom panel
@@ -241,13 +244,15 @@ void Figure::BeginPanel(int index, const Axis& x, const Axis& y, const std::stri
   plwidth(0.8);
   PLINT mark = 400, space = 900;
   plstyl(1, &mark, &space);
-  plbox(x.log ? "gl" : "g", 0, 0, y.log ? "gl" : "g", 0, 0);
+  // A given tick interval has no minor ticks (one subinterval); 0 lets PLplot choose both.
+  const PLINT x_sub = x.tick > 0.0 ? 1 : 0, y_sub = y.tick > 0.0 ? 1 : 0;
+  plbox(x.log ? "gl" : "g", x.tick, x_sub, y.log ? "gl" : "g", y.tick, y_sub);
   plstyl(0, nullptr, nullptr);
   plcol0(kFrameIndex);
   plwidth(1.0);
   std::string xopt = std::string("bcst") + (x.label.empty() ? "" : "n") + (x.log ? "l" : "");
   std::string yopt = std::string("bcnstv") + (y.log ? "l" : "");
-  plbox(xopt.c_str(), 0, 0, yopt.c_str(), 0, 0);
+  plbox(xopt.c_str(), x.tick, x_sub, yopt.c_str(), y.tick, y_sub);
   plcol0(InkIndex(Ink::kText));
   if (!x.label.empty()) plmtex("b", 2.9, 0.5, 0.5, Escape(x.label).c_str());
   plmtex("l", 4.6, 0.5, 0.5, Escape(y.label).c_str());

@@ -49,6 +49,9 @@ struct Axis {
   std::string label;          // with its unit, e.g. "time t (s)"
   double lo = 0.0, hi = 1.0;  // lo < hi, finite (and > 0 on a log axis)
   bool log = false;
+  // Major tick interval in data units on a linear axis, ticks and grid at its multiples and no
+  // minor ticks (e.g. 1 for a count); 0 leaves the ticks to PLplot.
+  double tick = 0.0;
 };
 
 struct Stroke {
