@@ -175,35 +175,57 @@ struct RigEmulatorServer::Impl {
     }
   }
 
+  // Reading is readiness-based: every byte the system holds is read here without blocking,
+  // then a wait for more is armed. OnTimer reads the same way before the watchdog judges, so a
+  // host line that reached the system while this process was not running (a loaded machine)
+  // counts as received in time. Only ReadAvailable takes bytes, so they stay in order.
   void StartRead() {
-    auto done = [this](const boost::system::error_code& ec, std::size_t n) {
-      if (closing) {
-        // Only waiting for the host to close its end (TCP, after our FIN): it has read
-        // everything we sent, so closing now loses nothing.
-        if (ec) {
-          if (ec != asio::error::operation_aborted) Shutdown();
-          return;
-        }
-        StartRead();
-        return;
-      }
+    if (!ReadAvailable()) return;
+    auto ready = [this](const boost::system::error_code& ec) {
+      if (ec == asio::error::operation_aborted) return;
       if (ec) {
-        if (ec == asio::error::operation_aborted) return;
-        LinkLost(ec == asio::error::eof ? "the host closed the connection"
-                                        : "reading failed: " + ec.message());
+        EndOfInput(ec);
         return;
       }
+      StartRead();
+    };
+    if (tcp()) {
+      client->async_wait(asio::ip::tcp::socket::wait_read, ready);
+    } else {
+      pty.async_wait(asio::posix::stream_descriptor::wait_read, ready);
+    }
+  }
+
+  // Hands the rig every byte the system holds now; false when reading has ended (end of
+  // stream or an error, handled by EndOfInput) or there is nothing to read from.
+  bool ReadAvailable() {
+    for (;;) {
+      if (!connected()) return false;
+      boost::system::error_code ec;
+      const std::size_t n = tcp() ? client->read_some(asio::buffer(read_buffer), ec)
+                                  : pty.read_some(asio::buffer(read_buffer), ec);
+      if (ec == asio::error::would_block || ec == asio::error::try_again) return true;
+      if (ec) {
+        EndOfInput(ec);
+        return false;
+      }
+      // While closing, only the host's end of stream is awaited (TCP, after our FIN).
+      if (closing) continue;
       std::string_view bytes(read_buffer.data(), n);
       LogLines(bytes, "in", &log_partial_in);
       rig.HostBytes(bytes, HostUs(Clock::now()));
       Pump();
-      StartRead();
-    };
-    if (tcp()) {
-      if (client) client->async_read_some(asio::buffer(read_buffer), done);
-    } else {
-      pty.async_read_some(asio::buffer(read_buffer), done);
     }
+  }
+
+  void EndOfInput(const boost::system::error_code& ec) {
+    if (closing) {
+      // The host closed its end after our FIN: it has read everything we sent.
+      Shutdown();
+      return;
+    }
+    LinkLost(ec == asio::error::eof ? "the host closed the connection"
+                                    : "reading failed: " + ec.message());
   }
 
   void LinkLost(const std::string& why) {
@@ -230,6 +252,7 @@ struct RigEmulatorServer::Impl {
           }
           boost::system::error_code ignored;
           socket.set_option(asio::ip::tcp::no_delay(true), ignored);
+          socket.non_blocking(true, ignored);
           client.emplace(std::move(socket));
           Note("host connected from " + client->remote_endpoint(ignored).address().to_string());
           StartRead();
@@ -237,6 +260,8 @@ struct RigEmulatorServer::Impl {
   }
 
   void OnTimer() {
+    if (closing) return;
+    if (rig.watchdog_deadline_us()) ReadAvailable();  // what arrived counts before the watchdog
     if (closing) return;
     const auto now = Clock::now();
     const std::int64_t host_us = HostUs(now);
@@ -307,7 +332,7 @@ struct RigEmulatorServer::Impl {
       return;
     }
     // TCP: the host reads what is in flight, then sees the end of the stream and closes its
-    // end, which ends the pending read (StartRead). Closing before that, with host lines still
+    // end, which the read wait (StartRead) sees. Closing before that, with host lines still
     // unread here, would send a reset that can make the host's system discard what it has
     // received but not yet read; close_timer ends the wait after close_deadline.
     if (tcp()) return;
