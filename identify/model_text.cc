@@ -7,7 +7,11 @@ namespace lw {
 namespace {
 
 // "(239 s + 1)"; a negative time constant reads "(-3 s + 1)".
-std::string Lag(double tau, int digits) { return "(" + SignificantText(tau, digits) + " s + 1)"; }
+std::string Lag(double tau, int digits) {
+  std::string text = SignificantText(tau, digits);  // "(" + text trips GCC 12's -Wrestrict
+  text.insert(text.begin(), '(');
+  return text + " s + 1)";
+}
 
 }  // namespace
 
