@@ -290,7 +290,7 @@ TEST_CASE("firmware: the 32-bit microsecond clock wraps, rig time keeps counting
 TEST_CASE("firmware: host bytes arriving one at a time and \\r\\n endings") {
   Bench b;
   std::string line = EncodeRigLine(RigMessage::Hello(0));
-  line.insert(line.size() - 1, "\r");
+  line.insert(line.end() - 1, '\r');
   for (char c : line) {
     board.in.push_back(c);
     b.Poll();
