@@ -1,13 +1,15 @@
 #include "io/rig_link.h"
 
+#include <linux/futex.h>
 #include <sys/epoll.h>
 #include <sys/eventfd.h>
+#include <sys/syscall.h>
 #include <unistd.h>
 
 #include <atomic>
 #include <cerrno>
-#include <condition_variable>
 #include <cstring>
+#include <ctime>
 #include <mutex>
 #include <thread>
 #include <utility>
@@ -100,13 +102,34 @@ SerialFlowControl ParseSerialFlowControl(std::string_view text) {
 // the descriptor under `write_mutex`; lines a handler sends wait in `deferred` until that handler
 // returns, then the reader thread writes them. Queue mode hands each read's events over as one
 // batch: the reader swaps its vector into `incoming` and wakes NextEvent only when a caller is
-// waiting there.
+// waiting there. That caller sleeps on a futex word (`published`) outside the queue lock, so a
+// handed-over line costs the two futex calls of one wait and one wake (a condition variable
+// re-takes its mutex as if contended on waking, and its unlock then makes a third).
 
 namespace {
 
 constexpr std::size_t kReadBytes = 64 * 1024;
 
 std::string ErrnoText(int error) { return std::strerror(error); }
+
+static_assert(sizeof(std::atomic<std::uint32_t>) == sizeof(std::uint32_t) &&
+              std::atomic<std::uint32_t>::is_always_lock_free);
+
+// Sleeps while *word == expected, at most `wait`; returns early on a wake, on a change of the
+// word, on a signal.
+void FutexWait(std::atomic<std::uint32_t>& word, std::uint32_t expected,
+               std::chrono::nanoseconds wait) {
+  timespec relative{};
+  relative.tv_sec = static_cast<std::time_t>(wait.count() / 1000000000);
+  relative.tv_nsec = static_cast<long>(wait.count() % 1000000000);
+  ::syscall(SYS_futex, reinterpret_cast<std::uint32_t*>(&word), FUTEX_WAIT_PRIVATE, expected,
+            &relative, nullptr, 0);
+}
+
+void FutexWakeAll(std::atomic<std::uint32_t>& word) {
+  ::syscall(SYS_futex, reinterpret_cast<std::uint32_t*>(&word), FUTEX_WAKE_PRIVATE, INT32_MAX,
+            nullptr, nullptr, 0);
+}
 
 }  // namespace
 
@@ -167,9 +190,10 @@ struct RigLink::State {
   RigStreamCounts counts;
 
   std::mutex queue_mutex;
-  std::condition_variable queue_ready;
-  std::vector<RigLineEvent> incoming;  // handed over by the reader, not yet taken
-  std::vector<RigLineEvent> taking;    // being returned by NextEvent, from taking_at on
+  std::atomic<std::uint32_t> published{0};  // +1 under queue_mutex whenever events or the end
+                                            // arrive; NextEvent waits on it as a futex
+  std::vector<RigLineEvent> incoming;       // handed over by the reader, not yet taken
+  std::vector<RigLineEvent> taking;         // being returned by NextEvent, from taking_at on
   std::size_t taking_at = 0;
   int waiting = 0;  // NextEvent callers waiting for an event
   bool queue_closed = false;
@@ -238,10 +262,11 @@ struct RigLink::State {
       } else {
         for (RigLineEvent& event : pending) incoming.push_back(std::move(event));
       }
+      published.fetch_add(1, std::memory_order_release);
       wake = waiting > 0;
     }
     pending.clear();
-    if (wake) queue_ready.notify_all();
+    if (wake) FutexWakeAll(published);
   }
 
   void Ingest(std::size_t n) {
@@ -330,8 +355,9 @@ struct RigLink::State {
       std::lock_guard<std::mutex> lock(queue_mutex);
       queue_closed = true;
       close_message = message;
+      published.fetch_add(1, std::memory_order_release);
     }
-    queue_ready.notify_all();
+    FutexWakeAll(published);
     Stop();  // wakes a writer waiting for room, so it gives up
     {
       std::lock_guard<std::mutex> lock(write_mutex);
@@ -415,9 +441,15 @@ std::optional<RigLineEvent> RigLink::NextEvent(std::chrono::milliseconds timeout
   auto ready = [&s] {
     return s.taking_at < s.taking.size() || !s.incoming.empty() || s.queue_closed;
   };
-  if (!ready()) {
+  const auto deadline = std::chrono::steady_clock::now() + timeout;
+  while (!ready()) {
+    const auto now = std::chrono::steady_clock::now();
+    if (now >= deadline) break;
+    const std::uint32_t seen = s.published.load(std::memory_order_acquire);
     ++s.waiting;
-    s.queue_ready.wait_for(lock, timeout, ready);
+    lock.unlock();
+    FutexWait(s.published, seen, deadline - now);  // returns at once if it moved on since
+    lock.lock();
     --s.waiting;
   }
   if (s.taking_at == s.taking.size() && !s.incoming.empty()) {

@@ -14,7 +14,10 @@
 //   in with a core to itself (the machine may be shared).
 //   1 kHz table: cpu % of one core; us/line is host CPU microseconds per line (one line per
 //   wakeup at this rate); "vs raw" is link CPU / raw CPU, the cost of the link over the floor
-//   that reading the same bytes one wakeup at a time costs.
+//   that reading the same bytes one wakeup at a time costs; cs/line is the host's context
+//   switches per line (1 for a thread that waits for each line; 2 when a second thread is
+//   woken to take it over), a count that does not depend on the machine's load as CPU time
+//   does.
 // Targets: >= 200 000 lines/s; at 1 kHz under 1 % of one core (10 us per line).
 //   bench_ingest [LINES] [SECONDS_AT_1KHZ] [RUNS]
 // Prints a table; never fails on timing. Exit 1 only when a line was lost or rejected or
@@ -48,6 +51,14 @@
 namespace {
 
 using Clock = std::chrono::steady_clock;
+
+// Context switches of this process so far (voluntary: a thread waited; involuntary: it was
+// preempted). At 1 kHz each wait for a line is one.
+double Switches() {
+  rusage usage{};
+  getrusage(RUSAGE_SELF, &usage);
+  return static_cast<double>(usage.ru_nvcsw + usage.ru_nivcsw);
+}
 
 double CpuSeconds() {
   rusage usage{};
@@ -146,7 +157,7 @@ pid_t StartRig(int fd, const std::string& text, long period_us, int& go_fd) {
 }
 
 struct Run {
-  double wall = 0.0, cpu = 0.0;
+  double wall = 0.0, cpu = 0.0, switches = 0.0;
   std::uint64_t valid = 0, lost = 0;
 };
 
@@ -200,6 +211,7 @@ Run Once(bool tcp, Mode mode, const std::string& text, std::size_t lines, long p
   int go_fd = -1;
   const pid_t child = StartRig(ends.rig_fd, text, period_us, go_fd);
   close(ends.rig_fd);
+  const double switches0 = Switches();
   const double cpu0 = CpuSeconds();
   const auto t0 = Clock::now();
   if (write(go_fd, "g", 1) != 1) throw std::runtime_error("cannot start the rig");
@@ -232,6 +244,7 @@ Run Once(bool tcp, Mode mode, const std::string& text, std::size_t lines, long p
   }
   run.wall = std::chrono::duration<double>(Clock::now() - t0).count();
   run.cpu = CpuSeconds() - cpu0;
+  run.switches = Switches() - switches0;
   kill(child, SIGKILL);
   int status = 0;
   waitpid(child, &status, 0);
@@ -259,7 +272,7 @@ const char* ModeName(Mode mode) {
 struct Row {
   bool tcp = false;
   Mode mode = Mode::kRaw;
-  std::vector<double> walls, cpus;
+  std::vector<double> walls, cpus, switches;
   std::uint64_t lost = 0;
   double wall() const { return Median(walls); }
   double cpu() const { return Median(cpus); }
@@ -280,6 +293,7 @@ std::vector<Row> Measure(const std::string& text, std::size_t lines, long period
       const Run run = Once(row.tcp, row.mode, text, lines, period_us);
       row.walls.push_back(run.wall);
       row.cpus.push_back(run.cpu);
+      row.switches.push_back(run.switches);
       row.lost += run.lost;
     }
   }
@@ -317,14 +331,15 @@ int main(int argc, char** argv) {
     const std::string slow = text.substr(0, slow_end);
     std::printf("\n1 kHz stream for %.0f s: host CPU as %% of one core, median of %d runs\n",
                 static_cast<double>(slow_lines) / 1000.0, runs);
-    std::printf("%-6s %-9s %8s %9s %8s %9s %8s %7s\n", "link", "mode", "wall s", "cpu s", "cpu %",
-                "us/line", "vs raw", "lost");
+    std::printf("%-6s %-9s %8s %9s %8s %9s %8s %10s %7s\n", "link", "mode", "wall s", "cpu s",
+                "cpu %", "us/line", "vs raw", "cs/line", "lost");
     double raw_cpu = 0.0;
     for (const Row& row : Measure(slow, slow_lines, 1000, runs)) {
       if (row.mode == Mode::kRaw) raw_cpu = row.cpu();
-      std::printf("%-6s %-9s %8.2f %9.4f %8.3f %9.2f %8.2f %7llu\n", row.tcp ? "tcp" : "pty",
+      std::printf("%-6s %-9s %8.2f %9.4f %8.3f %9.2f %8.2f %10.2f %7llu\n", row.tcp ? "tcp" : "pty",
                   ModeName(row.mode), row.wall(), row.cpu(), 100.0 * row.cpu() / row.wall(),
                   1e6 * row.cpu() / static_cast<double>(slow_lines), row.cpu() / raw_cpu,
+                  Median(row.switches) / static_cast<double>(slow_lines),
                   static_cast<unsigned long long>(row.lost));
       all_received = all_received && row.lost == 0;
     }
