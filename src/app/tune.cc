@@ -1,4 +1,5 @@
 // `loopwright tune [--port P] [--controller C] [--from U0 --to U1] [--ref-step A:B] [--gain K]
+//                  [--structure auto|NAME]
 //                  [--rise-max S] [--overshoot-max PCT] [--zeta-min Z] [--settle-max S]
 //                  [--settle auto|S] [--max-wait S] [--dir OUT] [--yes] [--dry-run]
 //                  [rig options]`            (the workspace: the global --rig DIR)
@@ -6,7 +7,8 @@
 // The whole job on one rig session, every file in OUT and every result in the rig logbook:
 //   1. step test U0 -> U1 (default: U0 40 % up the actuator range, U1 = U0 + 10 % of the actuator
 //      range, downwards when upwards does not fit, no more than --max-step) -> step.csv
-//   2. `fit step.csv` -> model.json, fit.svg
+//   2. `fit step.csv` (with --structure, default auto: every structure, chosen by AICc) ->
+//      model.json, fit.svg
 //   3. `band model.json` with the specs (options, else the profile's [specs], else an overshoot
 //      of at most 10 %, common practice) -> band.json; the proposed gain is its recommendation
 //      (or --gain K), refused above the maximum gain
@@ -47,6 +49,7 @@
 #include "app/rig_phases.h"
 #include "app/run_command.h"
 #include "app/stop_signal.h"
+#include "identify/model_structure.h"
 #include "io/atomic_file.h"
 #include "lti/error.h"
 #include "lti/number_text.h"
@@ -101,6 +104,9 @@ class TuneCommand : public Command {
     sub.add_option("--to", to_, "Step test: actuator after the step (default: see --help)");
     sub.add_option("--ref-step", ref_step_,
                    "Verification step A:B (default: from the step test's levels)");
+    sub.add_option("--structure", structure_,
+                   "Model structure fit uses: auto (each, chosen by AICc) or one of fit's names")
+        ->capture_default_str();
     sub.add_option("--rise-max", rise_max_, "Spec: largest 10-90 % rise time, s");
     sub.add_option("--overshoot-max", overshoot_max_, "Spec: largest overshoot, percent");
     sub.add_option("--zeta-min", zeta_min_, "Spec: smallest damping ratio");
@@ -120,6 +126,8 @@ class TuneCommand : public Command {
     timing.max_wait_s = max_wait_;
     std::optional<std::pair<double, double>> ref_step;
     if (!ref_step_.empty()) ref_step = ParseRefStep(ref_step_);
+    if (structure_ != "auto")
+      ParseStructure(structure_);  // a wrong name fails before anything moves
     ResolvedRig rig = rig_.Resolve(ctx);
     if (controller_.has_gain()) rig.limits.RequireGain(controller_.gain());
     std::string dir = dir_;
@@ -239,6 +247,7 @@ class TuneCommand : public Command {
                     const std::string& actuator, const std::string& rig_name) const {
     TunePlan p;
     p.fit = {file("step.csv"), "-o", file("model.json"), "--plot", file("fit.svg")};
+    if (structure_ != "auto") p.fit.insert(p.fit.end(), {"--structure", structure_});
     p.band = {file("model.json"), "--controller", controller.ToString(), "-o", file("band.json")};
     AddSpecs(p.band, specs);
     p.predict = {file("model.json"),
@@ -371,6 +380,7 @@ class TuneCommand : public Command {
   ControllerOption controller_;
   std::optional<double> from_, to_;
   std::string ref_step_;
+  std::string structure_ = "auto";
   std::optional<double> rise_max_, overshoot_max_, zeta_min_, settle_max_;
   std::string settle_ = "auto";
   double max_wait_ = 3600.0;

@@ -442,7 +442,7 @@ def case_tune_dry_run():
     # With --gain and --ref-step the closed-loop step's lines are exact too.
     code, out, err = run("tune", "--port", "/dev/null/none", "--dry-run", "--actuator", "0:100",
                          "--controller", "pi:1.2", "--gain", "0.8", "--ref-step", "0.5:0.7",
-                         "--dir", out_dir)
+                         "--structure", "sopdt", "--dir", out_dir)
     check(code == 0, f"tune --dry-run --gain --ref-step exits 0 (got {code}: {err.strip()})")
     sent = dry_run_lines(out)
     words = [s.split()[0] for s in sent]
@@ -457,6 +457,12 @@ def case_tune_dry_run():
     ref = next((s.split() for s in sent if s.startswith("ref ")), [])
     check(ref[2:3] == ["0.7"], f"ref 0.7 ({ref})")
     check("--gain 0.8" in out and "step:0.5:0.7:0" in out, "predict at the given gain and step")
+    check(re.search(r"\$ loopwright fit \S+ .*--structure sopdt", out) is not None,
+          "fit with the structure asked for")
+    code, out, err = run("tune", "--port", "/dev/null/none", "--dry-run", "--actuator", "0:100",
+                         "--structure", "third-order")
+    check(code == 2 and "third-order" in err and not out.count("would send"),
+          f"an unknown structure is refused before anything ({code}: {err.strip()})")
     code, out, err = run("tune", "--port", "/dev/null/none", "--dry-run", "--actuator", "0:100",
                          "--controller", "pi:1.2", "--gain", "0.8", "--max-gain", "0.5")
     check(code == 2 and "maximum gain" in err, f"a gain over --max-gain is refused ({err.strip()})")
@@ -467,65 +473,40 @@ def case_tune_dry_run():
               f"--ref-step {bad} is refused naming the option ({code}: {err.strip()})")
 
 
-def moment_equivalent_fopdt(tf):
-    """Gain, time constant and dead time of the first order with dead time that has the same
-    DC gain and the same first two moments of its impulse response as G(s) = num/den exp(-T s)
-    (the method of moments; average residence time T + tau = -G'(0)/G(0), variance tau^2 =
-    (ln G)''(0); e.g. Astrom & Hagglund, PID Controllers, from memory). For a first order with
-    dead time these are its own parameters."""
-    def logs(p):  # p(0), (ln p)'(0), (ln p)''(0) of a polynomial in descending powers
-        c = list(reversed(p)) + [0.0, 0.0]
-        d1 = c[1] / c[0]
-        return c[0], d1, 2 * c[2] / c[0] - d1 * d1
-    n0, n1, n2 = logs(tf["num"])
-    d0, d1, d2 = logs(tf["den"])
-    mean = tf["delay"] + d1 - n1
-    var = n2 - d2
-    tau = var ** 0.5 if var > 0 else float("nan")
-    return n0 / d0, tau, mean - tau
-
-
 def case_tune():
     # The conveyor scenario: 0.021 exp(-0.12 s) / (0.85 s + 1) (io/rig_scenario.h).
     # The emulator runs in real time (8x): where the host's lines land in rig time, and so the
     # noise each recording holds, shifts with the host's scheduling, so every run has data of its
-    # own. What must hold for any of them is checked: the plant is recovered within 5 %, and the
-    # check confirms the model on the closed-loop step. fit's automatic choice (AICc,
-    # identify/structure_selection.h) may take a structure that contains the first order with
-    # dead time (sopdt, sopdt-zero) when the noise favours it: for nested models AIC does so
-    # with a fixed probability, about P(chi2 with 1 or 2 degrees of freedom > 2 or 4) = 14-16 %
-    # (Burnham & Anderson, Model Selection and Multimodel Inference; from memory), whatever the
-    # record length. So the chosen model is judged by its moment-equivalent first order with
-    # dead time, which for fopdt are its own parameters.
+    # own, and what is checked must hold for all of them. The structure is named: fit's automatic
+    # choice (AICc, identify/structure_selection.h) takes a structure that contains the first
+    # order with dead time (sopdt, sopdt-zero) for a fixed fraction of noise realizations, about
+    # P(chi2 with 1 or 2 degrees of freedom > 2 or 4) = 14-16 % for nested models whatever the
+    # record length (Burnham & Anderson, Model Selection and Multimodel Inference; from memory),
+    # and a near pole-zero pair it then adds leaves the dead time undetermined. That choice is
+    # the fit tests' subject (tests/identify, tests/reference/identify_recovery.py).
     emu = Emulator("--scenario", "conveyor-drive", "--speed", "8", "--seed", "5")
     out_dir = os.path.join(WORK, "tune_run")
     if os.path.isdir(out_dir):
         import shutil
         shutil.rmtree(out_dir)
     code, out, err = run("tune", "--port", emu.where, "--controller", "pi:1.2", "--yes",
-                         "--overshoot-max", "10", "--dir", out_dir, timeout=300)
+                         "--structure", "fopdt", "--overshoot-max", "10", "--dir", out_dir,
+                         timeout=300)
     emu.stop()
     check(code == 0, f"tune exits 0 (got {code}: {err.strip()[-600:]})")
+    check(f"--structure fopdt" in out, "tune runs fit with the structure asked for")
     import json
     try:
         with open(os.path.join(out_dir, "model.json")) as f:
             model = json.load(f)
         params = {p["name"]: p["value"] for p in model["parameters"]}
         print("fitted", model.get("structure"), params)
-        check(model.get("structure") in ("fopdt", "sopdt", "sopdt-zero"),
-              f"a structure containing the first order with dead time ({model.get('structure')})")
-        candidates = {c["structure"]: c for c in model["details"]["candidates"]}
-        check(candidates.get("fopdt", {}).get("usable") is True, "fopdt was fitted among them")
-        equivalent = moment_equivalent_fopdt(model["tf"])
-        print("moment-equivalent fopdt", equivalent)
-        if model.get("structure") == "fopdt":
-            check(all(abs(a - params[n]) <= 1e-9 * abs(params[n])
-                      for a, n in zip(equivalent, ("gain", "time_constant", "dead_time"))),
-                  "for fopdt the moment-equivalent parameters are its own")
+        check(model.get("structure") == "fopdt", f"first order with dead time ({model.get('structure')})")
         # The scenario's truth: gain 0.021 (m/s)/%, time constant 0.85 s, dead time 0.12 s.
-        for name, v, true in zip(("gain", "time_constant", "dead_time"), equivalent,
-                                 (0.021, 0.85, 0.12)):
-            check(abs(v / true - 1) <= 0.05, f"{name} within 5 % of {true} (got {v})")
+        for name, true in (("gain", 0.021), ("time_constant", 0.85), ("dead_time", 0.12)):
+            v = params.get(name)
+            check(v is not None and abs(v / true - 1) <= 0.05,
+                  f"{name} within 5 % of {true} (got {v})")
         with open(os.path.join(out_dir, "check.json")) as f:
             verdict = json.load(f)
         check(verdict["verdict"] == "confirmed",
