@@ -353,6 +353,15 @@ void JudgeMetric(MetricCheck& m, const Spread& sp, std::pair<double, double> noi
   }
 }
 
+// Empty when the nominal prediction overshoots by more than noise and resolution can hide (the
+// rule of the file comment); else why the peak time is not judged.
+std::string NoPeakReason(const MetricCheck& overshoot) {
+  const double allowance = overshoot.resolution - overshoot.noise_lo;
+  if (overshoot.predicted > allowance) return {};
+  return "no peak: the predicted overshoot " + Num(overshoot.predicted) + " % is within the " +
+         Num(allowance) + " % that noise and resolution allow, so the response has no peak to time";
+}
+
 void Conclude(ClosedLoopCheck& c) {
   for (const StepCheck& st : c.steps) {
     if (!st.at_limit) continue;
@@ -694,12 +703,14 @@ ClosedLoopCheck CheckClosedLoop(const TransferFunction& plant,
       mc.measured = measured[i][m];
       mc.predicted = predicted[i][m];
       mc.resolution = res[m];
-      mc.judged = !(m == static_cast<size_t>(CheckMetric::kPeakActuator) && !has_u);
-      // Without predicted overshoot the peak is the largest value near the end of a monotone
-      // response: its time says nothing about the loop.
-      if (m == static_cast<size_t>(CheckMetric::kPeakTime) &&
-          !(predicted[i][static_cast<size_t>(CheckMetric::kOvershoot)] > 0.0)) {
+      if (m == static_cast<size_t>(CheckMetric::kPeakActuator) && !has_u) {
         mc.judged = false;
+        mc.not_judged = "not judged: the recording has no actuator column";
+      }
+      // The overshoot (index 1) is complete before the peak time (index 2) is judged.
+      if (m == static_cast<size_t>(CheckMetric::kPeakTime)) {
+        mc.not_judged = NoPeakReason(st.metric(CheckMetric::kOvershoot));
+        mc.judged = mc.not_judged.empty();
       }
       std::vector<double> dv;
       for (const auto& d : draw_values) dv.push_back(d[i][m]);

@@ -42,8 +42,17 @@
 // 90 %, never settled) is consistent when measured and nominal are both NaN, or when at least
 // 2.5 % of the draws or noise replicates are NaN too; a finite measurement against predictions
 // that are all NaN is not. Without a u column the peak actuator and the actuator limits are not
-// judged; the peak time is not judged when the nominal prediction does not overshoot (the peak of
-// a monotone response is its largest value near the end, which says nothing about the loop).
+// judged.
+//
+// Peak time. It is judged only where the response has a peak: when the nominal prediction's
+// overshoot exceeds what noise and resolution allow of it, the overshoot's part 3 plus the depth
+// of its part 2,
+//   overshoot_predicted > resolution - noise_lo   (both of the overshoot, percentage points),
+// i.e. noise-only reruns of the prediction, measured like the recording, would still show an
+// overshoot beyond one resolution step. Otherwise (an overdamped or critically damped loop, or
+// one whose overshoot is a fraction of the noise) the peak is wherever the noisy plateau happens
+// to be highest, and its time says nothing about the loop: the peak time is not judged (judged
+// false, not_judged "no peak: ..."), and it is not counted among the judged metrics.
 //
 // Actuator limits. With `actuator` given, a sample is at a limit when u is within 1e-6 of the
 // limits' span of LO or HI. Without it, limits are detected: a sample is at a limit when u is
@@ -132,8 +141,12 @@ struct MetricCheck {
   double noise_lo = 0.0, noise_hi = 0.0;    // part 2, offsets (noise_lo <= 0 <= noise_hi)
   double resolution = 0.0;                  // part 3, half-width
   double lo = kNaN, hi = kNaN;              // the tolerance interval
-  bool judged = true;                       // false: not judged (no u column for peak actuator)
+  bool judged = true;  // false: not judged (peak actuator without u; peak time without a peak)
   bool consistent = true;
+  // Why it is not judged (empty when judged): a short label, a colon, then one sentence, e.g.
+  // "no peak: the predicted overshoot 0.15 % is within the 1.4 % that noise and resolution
+  // allow, so the response has no peak to time".
+  std::string not_judged;
 };
 
 struct StepCheck {

@@ -8,7 +8,10 @@
 // the recording's own noise (design/closed_loop_check.h). Verdict: confirmed (exit 0), stale or
 // saturated (exit 1), with one line of why. A recording that cannot be judged (no reference
 // step, or an output that never responded to one: a dead sensor, a loop not closed) is refused
-// with exit 3 and one sentence naming it; nothing is written.
+// with exit 3 and one sentence naming it; nothing is written. A metric that is not judged (the
+// peak actuator without a u column, the peak time of a response without a peak) shows its label
+// ("no peak") and a line saying why instead of numbers; in JSON it is null in measured,
+// predicted, tolerance and consistent, with the sentence under the step's `not_judged`.
 #include <cmath>
 #include <memory>
 #include <optional>
@@ -40,21 +43,26 @@ namespace {
 
 using nlohmann::json;
 
+// A metric that is not judged (peak actuator without u, peak time without a peak) is null in
+// measured, predicted, tolerance and consistent; `not_judged` says why.
 json MetricsJson(const StepCheck& st, double MetricCheck::*field) {
   json o = json::object();
   for (size_t i = 0; i < kCheckMetricCount; ++i) {
-    o[std::string(CheckMetricKey(static_cast<CheckMetric>(i)))] = JsonNumber(st.metrics[i].*field);
+    const MetricCheck& m = st.metrics[i];
+    o[std::string(CheckMetricKey(static_cast<CheckMetric>(i)))] =
+        m.judged ? JsonNumber(m.*field) : json(nullptr);
   }
   return o;
 }
 
 json StepJson(const StepCheck& st) {
-  json tol = json::object(), ok = json::object();
+  json tol = json::object(), ok = json::object(), why = json::object();
   for (size_t i = 0; i < kCheckMetricCount; ++i) {
     const MetricCheck& m = st.metrics[i];
     const std::string key(CheckMetricKey(static_cast<CheckMetric>(i)));
-    tol[key] = {JsonNumber(m.lo), JsonNumber(m.hi)};
+    tol[key] = m.judged ? json{JsonNumber(m.lo), JsonNumber(m.hi)} : json(nullptr);
     ok[key] = m.judged ? json(m.consistent) : json(nullptr);
+    if (!m.judged) why[key] = m.not_judged;
   }
   return {{"at", st.at},
           {"from", st.from},
@@ -63,6 +71,7 @@ json StepJson(const StepCheck& st) {
           {"predicted", MetricsJson(st, &MetricCheck::predicted)},
           {"tolerance", tol},
           {"consistent", ok},
+          {"not_judged", why},
           {"time_at_limit", st.time_at_limit},
           {"at_limit", st.at_limit}};
 }
@@ -212,21 +221,32 @@ class CheckCommand : public Command {
       out << "  reference step " << FormatNumber(st.from) << " -> " << FormatNumber(st.to)
           << " at t = " << FormatQuantity(st.at, "s") << "\n";
       SummaryTable t({"metric", "measured", "predicted", "tolerance", "verdict"});
+      std::vector<std::string> why;
       for (size_t i = 0; i < kCheckMetricCount; ++i) {
         const MetricCheck& m = st.metrics[i];
+        const std::string label(CheckMetricLabel(static_cast<CheckMetric>(i)));
+        if (!m.judged) {
+          // "no peak: the predicted overshoot ..." -> cell "no peak", the sentence below.
+          const size_t colon = m.not_judged.find(": ");
+          t.AddRow({label, "", "", "", SummaryCell(m.not_judged.substr(0, colon))});
+          if (colon != std::string::npos) {
+            why.push_back(label + " not judged: " + m.not_judged.substr(colon + 2));
+          }
+          continue;
+        }
         const std::string unit(CheckMetricUnit(static_cast<CheckMetric>(i)));
         const std::string tol = std::isfinite(m.lo)
                                     ? FormatNumber(m.lo) + " to " + FormatQuantity(m.hi, unit)
                                     : std::string("n/a");
-        t.AddRow({std::string(CheckMetricLabel(static_cast<CheckMetric>(i))),
-                  FormatQuantity(m.measured, unit), FormatQuantity(m.predicted, unit), tol,
-                  m.judged ? OkFail(m.consistent) : SummaryCell("not judged")});
+        t.AddRow({label, FormatQuantity(m.measured, unit), FormatQuantity(m.predicted, unit), tol,
+                  OkFail(m.consistent)});
       }
       if (c.has_u) {
         t.AddRow({"time at a limit", FormatQuantity(st.time_at_limit, "s"), "", "",
                   Verdict(!st.at_limit, "OK", "SATURATED")});
       }
       t.Print(ctx, 4);
+      for (const std::string& line : why) out << "    " << line << "\n";
     }
     KeyValueList kv;
     kv.Add("fit", FormatQuantity(c.fit_percent, "%", 3) +

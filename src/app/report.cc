@@ -231,14 +231,25 @@ class Builder {
       const json& pred = st.contains("predicted") ? st["predicted"] : none;
       const json& tol = st.contains("tolerance") ? st["tolerance"] : none;
       const json& ok = st.contains("consistent") ? st["consistent"] : none;
+      // Why a metric is not judged: "no peak: the predicted overshoot ..." gives the cell
+      // "no peak" and a sentence under the tables.
+      const json& why =
+          st.contains("not_judged") && st["not_judged"].is_object() ? st["not_judged"] : none;
       for (const auto& [key, label] : kMetricRows) {
         std::string range = "n/a";
         if (tol.contains(key) && tol[key].is_array() && tol[key].size() == 2)
           range = Text(tol[key][0]) + " to " + Text(tol[key][1]);
-        std::string verdict = !ok.contains(key)     ? "n/a"
-                              : ok[key].is_null()   ? "not judged"
-                              : ok[key].get<bool>() ? "yes"
-                                                    : "NO";
+        const std::string reason =
+            why.contains(key) && why[key].is_string() ? why[key].get<std::string>() : std::string();
+        const size_t colon = reason.find(": ");
+        std::string verdict = !ok.contains(key)            ? "n/a"
+                              : !ok[key].is_null()         ? (ok[key].get<bool>() ? "yes" : "NO")
+                              : colon != std::string::npos ? reason.substr(0, colon)
+                                                           : "not judged";
+        if (ok.contains(key) && ok[key].is_null() && colon != std::string::npos) {
+          s.paragraphs.push_back(std::string(label) + ", step at " + Text(st.value("at", json())) +
+                                 " s, not judged: " + reason.substr(colon + 2) + ".");
+        }
         t.rows.push_back(
             {label, Text(meas.value(key, json())), Text(pred.value(key, json())), range, verdict});
       }

@@ -134,6 +134,57 @@ def case_demo():
     check(code == 1 and "verdict: stale" in out, f"reworked zone: stale, exit 1 (got {code}: {out[-300:]})")
 
 
+def case_no_peak():
+    """Peak time is judged only where the predicted response has a peak. Our tank under a slower
+    PI, 0.8 (s + 0.09)/s: its prediction overshoots by a fraction of a percent, well inside what
+    the noise (sd 0.06 on a step of 6) and resolution allow, so the peak is just the highest point
+    of the noisy plateau and is not judged. The loop of the rerun cases (PI 2.2 (s + 0.12)/s,
+    about 8 % overshoot) has a peak, and its time is judged."""
+    model = fitted_model()
+    code, _, err = run("simulate", "--plant", PLANT, "--controller", "pi:0.09", "--gain", "0.8",
+                       "--reference", "step:40:46:10", "--rate", "2", "--duration", "120",
+                       "--noise", "0.06", "--seed", "4", "-o", path("slow.csv"))
+    check(code == 0, f"simulate the slow loop: {err}")
+    args = ["check", model, "--controller", "pi:0.09", "--gain", "0.8", path("slow.csv")]
+    code, out, err = run(*args, "--save", path("slow_check.json"))
+    print(out)
+    check(code == 0 and "verdict: confirmed" in out, f"slow loop confirmed ({code}: {err})")
+    row = next((l for l in out.splitlines() if l.strip().startswith("peak time ")), "")
+    check(row.split() == ["peak", "time", "no", "peak"],
+          f"peak time row: no numbers, verdict 'no peak' ({row!r})")
+    check("peak time not judged: the predicted overshoot" in out and "no peak to time" in out,
+          "text says why the peak time is not judged")
+    check("all 5 metrics of 1 step" in out, "the peak time is not counted among the judged metrics")
+    code, out, err = run(*args, "--json")
+    st = json.loads(out)["steps"][0]
+    check(st["predicted"]["overshoot_percent"] > 0,
+          f"the prediction does overshoot, a little ({st['predicted']['overshoot_percent']})")
+    for part in ("measured", "predicted", "tolerance", "consistent"):
+        check(st[part]["peak_time"] is None, f"{part}.peak_time is null ({st[part]['peak_time']})")
+    why = st["not_judged"].get("peak_time", "")
+    check(why.startswith("no peak: the predicted overshoot"), f"not_judged.peak_time says why ({why!r})")
+    check(list(st["not_judged"]) == ["peak_time"], f"only the peak time is not judged ({st['not_judged']})")
+    for key in ("rise_time", "overshoot_percent", "settling_time", "steady_state_error",
+                "peak_actuator"):
+        check(st["consistent"][key] is True, f"{key} judged and consistent ({st['consistent'][key]})")
+    # The report renders the check section with the peak time as "no peak" and the reason.
+    code, _, err = run("report", model, path("slow_check.json"), "-o", path("slow_report.html"))
+    check(code == 0, f"report with the check: {err}")
+    with open(path("slow_report.html")) as f:
+        html = f.read()
+    check("Verification against a closed-loop recording" in html, "the report has the check section")
+    check("no peak" in html and "no peak to time" in html,
+          "the report marks the peak time 'no peak' and says why")
+    # A loop with a peak: its time is judged, as before.
+    code, doc, err = check_json(model, closed_loop(PLANT, 41, "peaked.csv"))
+    st = doc["steps"][0]
+    check(st["predicted"]["overshoot_percent"] > 5, f"this loop overshoots ({st['predicted']})")
+    check(st["consistent"]["peak_time"] is True and st["not_judged"] == {},
+          f"peak time judged and consistent ({st['consistent']}, {st['not_judged']})")
+    check(st["tolerance"]["peak_time"][0] <= st["measured"]["peak_time"] <= st["tolerance"]["peak_time"][1],
+          f"measured peak time within its tolerance ({st['measured']}, {st['tolerance']})")
+
+
 def case_errors():
     code, out, _ = run("check", "--help")
     usage = next((l for l in out.splitlines() if l.startswith("Usage:")), "")

@@ -225,6 +225,63 @@ TEST_CASE("check: the same result on one thread or two; without u the actuator i
   CHECK(c.verdict == CheckVerdict::kConfirmed);
 }
 
+TEST_CASE("check: peak time is judged only where the predicted response has a peak") {
+  // Overdamped: G = 2 (5.5 s + 1) / ((5 s + 1)(s + 1)) under P control K = 1, so
+  // T(s) = 2 (5.5 s + 1) / (5 s^2 + 17 s + 3), zeta = 17 / (2 sqrt(15)) = 2.19, both poles real.
+  // Its zero, slightly slower than the slow pole, gives a small overshoot; by partial fractions
+  // y = 2/3 + r1 e^(p1 t) + r2 e^(p2 t), r_i = 2 (5.5 p_i + 1) / (5 p_i (p_i - p_j)), the peak
+  // where r1 p1 e^(p1 t) + r2 p2 e^(p2 t) = 0 (Franklin, Powell & Emami-Naeini, ch. 3, the effect
+  // of a zero; from memory; scipy.signal.step gives 1.816 % at 2.12 s). Reference 0 -> 3 at 1 s,
+  // 20 Hz, output noise sd 0.02 (1 % of the change): that overshoot is within what noise and
+  // resolution allow, so the peak time is not judged.
+  const TransferFunction g(std::vector<double>{11.0, 2.0}, std::vector<double>{5.0, 6.0, 1.0});
+  const Controller p;
+  const double d = std::sqrt(17.0 * 17.0 - 4.0 * 5.0 * 3.0);
+  const double p1 = (-17.0 + d) / 10.0, p2 = (-17.0 - d) / 10.0;
+  const double r1 = 2.0 * (5.5 * p1 + 1.0) / (5.0 * p1 * (p1 - p2));
+  const double r2 = 2.0 * (5.5 * p2 + 1.0) / (5.0 * p2 * (p2 - p1));
+  const double tp = std::log(-r2 * p2 / (r1 * p1)) / (p1 - p2);
+  const double overshoot = 100.0 * (r1 * std::exp(p1 * tp) + r2 * std::exp(p2 * tp)) / (2.0 / 3.0);
+  REQUIRE(overshoot == doctest::Approx(1.816).epsilon(1e-3));
+  const std::vector<double> t = Grid(0.05, 40.0);
+  const Rec over = ClosedLoopRecord(g, p, 1.0, t, Reference(t, 0.0, {{1.0, 3.0}}), 0.02, 31);
+  ClosedLoopCheckOptions o;
+  o.noise_replicates = 60;
+  const ClosedLoopCheck c = CheckClosedLoop(g, {}, p, 1.0, over.View(), o);
+  REQUIRE(c.steps.size() == 1);
+  const MetricCheck& os = c.steps[0].metric(CheckMetric::kOvershoot);
+  const MetricCheck& peak = c.steps[0].metric(CheckMetric::kPeakTime);
+  // The prediction does overshoot (a rule "judge when it overshoots at all" would judge it) ...
+  CHECK(os.predicted == doctest::Approx(overshoot).epsilon(1e-2));
+  // ... but by less than noise and resolution allow, so there is no peak to judge.
+  CHECK(os.predicted <= os.resolution - os.noise_lo);
+  CHECK_FALSE(peak.judged);
+  CHECK(peak.not_judged.rfind("no peak: ", 0) == 0);
+  for (CheckMetric m : {CheckMetric::kRiseTime, CheckMetric::kOvershoot, CheckMetric::kSettlingTime,
+                        CheckMetric::kSteadyStateError, CheckMetric::kPeakActuator}) {
+    CHECK(c.steps[0].metric(m).judged);
+  }
+  CHECK(c.verdict == CheckVerdict::kConfirmed);
+  CHECK(c.reason.rfind("all 5 metrics of 1 step", 0) == 0);
+
+  // Underdamped: the loop of the reruns test (about 14 % overshoot) has a peak, and its time is
+  // judged against the tolerance as before.
+  const TransferFunction fo = Fopdt(1.8, 4.0, 0.6);
+  const Controller pi = Controller::Parse("pi:0.4");
+  const Rec under = PiLoopRecord(fo, 1.6, {3.0, 12.0}, 32);
+  const ClosedLoopCheck u = CheckClosedLoop(fo, {}, pi, 1.6, under.View(), o);
+  REQUIRE(u.steps.size() == 1);
+  const MetricCheck& upeak = u.steps[0].metric(CheckMetric::kPeakTime);
+  const MetricCheck& uos = u.steps[0].metric(CheckMetric::kOvershoot);
+  CHECK(uos.predicted > uos.resolution - uos.noise_lo);
+  CHECK(upeak.judged);
+  CHECK(upeak.not_judged.empty());
+  CHECK(upeak.consistent);
+  CHECK(upeak.lo <= upeak.predicted);
+  CHECK(upeak.predicted <= upeak.hi);
+  CHECK(u.reason.rfind("all 6 metrics of 1 step", 0) == 0);
+}
+
 TEST_CASE("check: an output still moving before the first step is noted") {
   // The loop of the test above, its record cut to start 1 s after an earlier step: the output
   // is still on its way when the recorded reference steps again.
