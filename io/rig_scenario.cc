@@ -24,8 +24,10 @@ RigScenario Make(const char* name, const char* summary, const char* formula, dou
   s.actuator_lo = actuator.lo;
   s.actuator_hi = actuator.hi;
   s.safe_value = actuator.safe;
-  s.actuator_unit = actuator.unit;
-  s.output_unit = sensor.unit;
+  // Move-assigned from temporaries: assigning the const char* directly trips GCC 12's
+  // -Wrestrict false positive in this constant-propagated function.
+  s.actuator_unit = std::string(actuator.unit);
+  s.output_unit = std::string(sensor.unit);
   s.noise_sd = sensor.noise_sd;
   s.quantize = sensor.quantize;
   s.watchdog_ms = watchdog_ms;

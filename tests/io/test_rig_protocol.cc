@@ -164,7 +164,7 @@ TEST_CASE("reals are printed as %.9g: nine significant digits") {
 TEST_CASE("a \\r\\n terminator is accepted, a bare \\r is not") {
   const std::string line = SealRigLine("beat 3");
   std::string crlf = line;
-  crlf.insert(crlf.size() - 1, "\r");
+  crlf.insert(crlf.end() - 1, '\r');
   CHECK(MustParse(crlf).kind == RigMessageKind::kBeat);
   std::string cr = line;
   cr.back() = '\r';
