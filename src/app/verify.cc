@@ -13,12 +13,14 @@
 
 #include "app/command.h"
 #include "app/controller_option.h"
+#include "app/model_source.h"
 #include "app/output.h"
 #include "app/rig_connect.h"
 #include "app/rig_options.h"
 #include "app/rig_phases.h"
 #include "app/run_command.h"
 #include "app/stop_signal.h"
+#include "design/prediction.h"
 #include "io/model_file.h"
 #include "lti/error.h"
 #include "lti/number_text.h"
@@ -60,13 +62,21 @@ class VerifyCommand : public Command {
   }
 
   int Run(Context& ctx) override {
-    ReadModelFile(model_path_);  // a bad model file fails before anything moves
+    const LoadedModel model = LoadModelFile(model_path_);  // fails before anything moves
     const Controller controller = controller_.Parse();
     const double gain = controller_.gain();
     auto [a, b] = ParseRefStep(ref_step_);
     PhaseTiming timing;
     timing.settle_s = ParseSettle(settle_);
     timing.max_wait_s = max_wait_;
+    // "At rest" alone can end the record too early on a slow loop (the output creeps towards
+    // its final value slower than the rest test's noise): the hold before the step lasts at least
+    // the predicted settling time and the response at least twice it, so the tail the check
+    // takes the final value from (the last fifth of the record, lti/step_metrics.h) lies past
+    // settling. An unstable or never-settling prediction adds nothing here (check judges it).
+    const double settle = PredictedSettling(model, controller, gain, a, b);
+    timing.min_hold_s = settle;
+    timing.min_response_s = 2.0 * settle;
     ResolvedRig rig = rig_.Resolve(ctx);
     rig.limits.RequireGain(gain);
     StopSignalGuard guard;
@@ -96,6 +106,16 @@ class VerifyCommand : public Command {
   }
 
  private:
+  static double PredictedSettling(const LoadedModel& model, const Controller& controller,
+                                  double gain, double a, double b) {
+    PredictionOptions options;
+    options.reference_from = a;
+    options.reference_to = b;
+    const Prediction p = Predict(model.tf, controller, gain, options);
+    const double settle = p.metrics.settling_time;
+    return p.stable && std::isfinite(settle) && settle > 0.0 ? settle : 0.0;
+  }
+
   RigOptions rig_;
   std::string model_path_;
   ControllerOption controller_;

@@ -473,6 +473,45 @@ def case_tune_dry_run():
               f"--ref-step {bad} is refused naming the option ({code}: {err.strip()})")
 
 
+def case_verify():
+    # verify on its own: a closed-loop step on the emulated rig, then the check's verdict. The
+    # emulator runs a plant of our own, 1.6 exp(-0.3 s)/((2 s + 1)(0.5 s + 1)), with sensor noise
+    # 0.02; the model is fitted (sopdt) to a simulated step test of the same plant and noise, so
+    # the check must say confirmed. The response must be recorded for at least twice the
+    # predicted settling time (a loop creeping to its final value can look at rest earlier).
+    import json
+    plant = "1.6*exp(-0.3*s)/((2*s+1)*(0.5*s+1))"
+    step = fresh("verify_step.csv")
+    model = fresh("verify_model.json")
+    code, _, err = run("simulate", "--plant", plant, "--input", "step:20:30:5", "--rate", "50",
+                       "--duration", "40", "--noise", "0.02", "--seed", "3", "-o", step)
+    check(code == 0, f"simulate exits 0 ({err.strip()})")
+    code, _, err = run("fit", step, "--structure", "sopdt", "-o", model)
+    check(code == 0, f"fit exits 0 ({err.strip()})")
+    code, out, err = run("predict", model, "--controller", "pi:0.5", "--gain", "0.9",
+                         "--reference", "step:10:14:0", "--json")
+    check(code == 0, f"predict exits 0 ({err.strip()})")
+    settle = json.loads(out)["metrics"]["settling_time"] if code == 0 else float("nan")
+    emu = Emulator("--plant", plant, "--rate", "50", "--noise", "0.02", "--speed", "10",
+                   "--seed", "2")
+    rec = fresh("verify_cl.csv")
+    code, out, err = run("verify", "--port", emu.where, model, "--controller", "pi:0.5",
+                         "--gain", "0.9", "--ref-step", "10:14", "-o", rec, "--yes", "--json",
+                         timeout=120)
+    emu.stop()
+    check(code == 0, f"verify exits 0 for confirmed (got {code}: {err.strip()[-400:]})")
+    try:
+        verdict = json.loads(out)
+        check(verdict["verdict"] == "confirmed",
+              f"verify says confirmed (got {verdict['verdict']}: {verdict.get('reason')})")
+        _, _, _, rows = read_recording(rec)
+        step_at = verdict["steps"][0]["at"]
+        check(rows[-1][0] - step_at >= 2 * settle - 0.021,
+              f"response recorded for 2 x {settle:.3g} s ({rows[-1][0] - step_at:.3g} s)")
+    except (OSError, KeyError, ValueError, IndexError) as e:
+        check(False, f"verify's output and recording are readable ({e})")
+
+
 def case_tune():
     # The conveyor scenario: 0.021 exp(-0.12 s) / (0.85 s + 1) (io/rig_scenario.h).
     # The emulator runs in real time (8x): where the host's lines land in rig time, and so the
