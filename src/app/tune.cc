@@ -101,7 +101,9 @@ class TuneCommand : public Command {
     controller_.Add(sub, /*gain_required=*/false);
     sub.add_option("--from", from_,
                    "Step test: actuator before the step (default: 40 % up the range)");
-    sub.add_option("--to", to_, "Step test: actuator after the step (default: see --help)");
+    sub.add_option("--to", to_,
+                   "Step test: actuator after the step (default: --from + 10 % of the range, "
+                   "at most the largest step; downwards when that passes the top)");
     sub.add_option("--ref-step", ref_step_,
                    "Verification step A:B (default: from the step test's levels)");
     sub.add_option("--structure", structure_,
