@@ -177,7 +177,7 @@ std::string Interval(const ParameterEstimate& p) {
 class FitCommand : public Command {
  public:
   void Configure(CLI::App& sub) override {
-    sub.add_option("recording", path_, "Step-test recording (CSV)")->required();
+    sub.add_option("REC.csv", path_, "Step-test recording (CSV)")->required();
     columns_.Add(sub, ColumnSet{true, true, true});
     sub.add_option("--structure", structure_,
                    "auto, fopdt, sopdt, underdamped, integrating or sopdt-zero")

@@ -47,8 +47,9 @@ int main(int argc, char** argv) {
   }
   // The rig workspace (app/workspace.h): global, accepted before or after the command name.
   std::string rig_dir;
-  const char* rig_help = "Rig workspace folder (made by `loopwright init`); default: the current "
-                         "folder when it holds rig.toml";
+  const char* rig_help =
+      "Rig workspace folder (made by `loopwright init`); default: the current "
+      "folder when it holds rig.toml";
   app.add_option("--rig", rig_dir, rig_help)->type_name("DIR");
   for (CLI::App* sub : subs) {
     if (sub->get_option_no_throw("--rig") == nullptr) {
@@ -65,15 +66,39 @@ int main(int argc, char** argv) {
   } catch (const CLI::CallForVersion& e) {
     return app.exit(e);
   } catch (const CLI::ParseError& e) {
-    std::cerr << "loopwright: " << e.what() << " (see loopwright --help)\n";
+    // Point at the help of the command the mistake was made in, when one was named.
+    std::string help = "loopwright --help";
+    for (CLI::App* sub : subs) {
+      if (sub->parsed()) help = "loopwright " + sub->get_name() + " --help";
+    }
+    std::string what = e.what();
+    if (help == "loopwright --help") {
+      // A mistyped command name reaches CLI11 as a stray argument: name it and the commands.
+      for (int i = 1; i < argc; ++i) {
+        const std::string arg = argv[i];
+        if (arg == "--rig") {
+          ++i;
+          continue;
+        }
+        if (arg.empty() || arg[0] == '-') continue;
+        std::string names;
+        for (CLI::App* sub : subs) names += (names.empty() ? "" : ", ") + sub->get_name();
+        what = "'" + arg + "' is not a loopwright command; the commands are " + names;
+        break;
+      }
+    }
+    std::cerr << "loopwright: " << what << " (see " << help << ")\n";
     return static_cast<int>(lw::ExitStatus::kUsage);
   }
 
   bool terminal = isatty(STDOUT_FILENO) == 1;
   const char* no_color = std::getenv("NO_COLOR");
-  lw::app::Context ctx{std::cout, std::cerr, terminal,
+  lw::app::Context ctx{std::cout,
+                       std::cerr,
+                       terminal,
                        terminal && (no_color == nullptr || *no_color == '\0'),
-                       JoinCommandLine(argc, argv), rig_dir};
+                       JoinCommandLine(argc, argv),
+                       rig_dir};
   for (size_t i = 0; i < subs.size(); ++i) {
     if (!subs[i]->parsed()) continue;
     try {
