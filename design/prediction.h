@@ -10,7 +10,8 @@
 //                      dr / (1 + K L0(0)) for a loop without integrator, 0 with one (L0 =
 //                      shape G); NaN when the loop is unstable
 //   step response      simulated with the exact dead time (lti/simulate.h), the loop at rest at
-//                      the reference's initial level; metrics by lti/step_metrics.h
+//                      the reference's initial level; metrics by lti/step_metrics.h, whose
+//                      has_peak / no_peak say whether the response has a peak to time
 //   peak actuator      largest |u| after the step; a warning when u leaves [actuator_lo,
 //                      actuator_hi]
 #ifndef LOOPWRIGHT_DESIGN_PREDICTION_H_

@@ -7,7 +7,12 @@
 //   overshoot_max  overshoot <= overshoot_max (percent of the change)
 //   zeta_min       overshoot <= 100 exp(-pi zeta / sqrt(1 - zeta^2)) (its second-order meaning)
 //   settle_max     settling time in the settle_band (1 % or 2 %) <= settle_max
-//   peak_max       peak time <= peak_max
+//   peak_max       peak time <= peak_max. Without a peak (StepMetrics::has_peak false) the peak
+//                  time is still that of the largest value, as before has_peak existed: a
+//                  monotone response has it at the end of the record (>= 3 peak_max), so it
+//                  fails, as the pole meaning wd >= pi / peak_max (specs.h) fails for real
+//                  poles; an overshoot too small to count as a peak still passes when its peak
+//                  comes early enough (its poles have wd >= pi / peak_max).
 //   wn_min         rise time <= 1.8 / wn_min (the same approximation as specs.h, read backwards)
 //   always         the response reaches 90 % and ends settled within the band (2 % unless
 //                  settle_band says 1 %) — a stable, non-creeping loop.

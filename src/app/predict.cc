@@ -7,6 +7,9 @@
 // the dominant pair's zeta and wn, gain and phase margins with their crossovers (exact dead
 // time), the steady-state error to the step, the simulated step's metrics and the peak actuator
 // effort, with a warning beyond the actuator limits; a compact summary table (app/summary_table.h).
+// A response without a peak (lti/step_metrics.h: no overshoot above 0.1 % of the step, or the
+// largest value in the record's tail) shows "no peak" and why instead of a peak time; in JSON
+// metrics.peak_time is null and metrics.peak_note the reason (null when there is a peak).
 // --save writes the JSON document the report reads; --plot draws the response figure with the
 // envelope over parameter draws when the model file has a covariance (app/predict_plot.h).
 #include <cmath>
@@ -64,7 +67,8 @@ json PredictionJson(const Prediction& p, const Controller& controller, const Loa
       {"metrics",
        {{"rise_time", JsonNumber(m.rise_time)},
         {"overshoot_percent", JsonNumber(m.overshoot_percent)},
-        {"peak_time", JsonNumber(m.peak_time)},
+        {"peak_time", m.has_peak ? JsonNumber(m.peak_time) : json()},
+        {"peak_note", m.has_peak ? json() : json(m.no_peak)},
         {"settling_time", JsonNumber(m.settling_time)},
         {"steady_state_error", JsonNumber(p.steady_state_error)},
         {"peak_actuator", JsonNumber(m.peak_actuator)}}},
@@ -231,7 +235,7 @@ class PredictCommand : public Command {
     } else {
       t.AddRow({"overshoot", FormatQuantity(m.overshoot_percent, "%")});
     }
-    t.AddRow({"peak time", FormatQuantity(m.peak_time, "s")});
+    t.AddRow({"peak time", m.has_peak ? FormatQuantity(m.peak_time, "s") : "no peak"});
     t.AddRow({"settling time (" + FormatNumber(100 * o.settle_band) + " %)",
               FormatQuantity(m.settling_time, "s")});
     t.AddRow({"steady-state error", FormatNumber(p.steady_state_error, 4)});
@@ -255,6 +259,7 @@ class PredictCommand : public Command {
                   : MarginText(p.margins.phase_margin_deg, "deg", p.margins.gain_crossover)});
     t.AddRow({"delay margin", FormatQuantity(p.margins.delay_margin, "s")});
     t.Print(ctx);
+    if (!m.has_peak) out << "  " << m.no_peak << "\n";
     out << "  (response simulated with the exact dead time, reference " << ref.ToString() << ")\n";
   }
 

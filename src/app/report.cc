@@ -156,8 +156,19 @@ class Builder {
                            Text(doc.value("reference", json())) + ".");
     ReportTable t{{"quantity", "predicted"}, {}};
     const json& m = doc["metrics"];
-    for (const auto& [key, label] : kMetricRows)
-      if (m.contains(key)) t.rows.push_back({label, Text(m[key])});
+    // A response without a peak: peak_time null and peak_note "no peak: ..." (predict.cc).
+    const bool no_peak = m.contains("peak_note") && m["peak_note"].is_string();
+    for (const auto& [key, label] : kMetricRows) {
+      if (!m.contains(key)) continue;
+      const bool peakless = no_peak && std::string(key) == "peak_time" && m[key].is_null();
+      t.rows.push_back({label, peakless ? std::string("no peak") : Text(m[key])});
+    }
+    if (no_peak) {
+      const std::string note = m["peak_note"].get<std::string>();
+      const size_t colon = note.find(": ");
+      s.paragraphs.push_back("Peak time: no peak; " +
+                             (colon == std::string::npos ? note : note.substr(colon + 2)) + ".");
+    }
     if (doc.contains("margins")) {
       const json& g = doc["margins"];
       t.rows.push_back({"gain margin (dB)", Text(g.value("gain_margin_db", json()))});

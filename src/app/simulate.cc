@@ -15,6 +15,9 @@
 //      touch only the written y: the closed loop itself is simulated without them.
 // The noise comes from a 64-bit Mersenne Twister seeded with --seed and a Box-Muller transform
 // written here, so the same seed gives the same file on every platform.
+// With one step in the input (or reference) the summary gives the step's metrics; a response
+// without a peak (lti/step_metrics.h) shows "no peak (why)" as its peak time, and in JSON
+// metrics.peak_time is null and metrics.peak_note the reason (null when there is a peak).
 #include <algorithm>
 #include <cmath>
 #include <cstdint>
@@ -113,7 +116,8 @@ nlohmann::json MetricsJson(const StepMetrics& m) {
           {"initial", JsonNumber(m.initial)},
           {"final_value", JsonNumber(m.final_value)},
           {"rise_time", JsonNumber(m.rise_time)},
-          {"peak_time", JsonNumber(m.peak_time)},
+          {"peak_time", m.has_peak ? JsonNumber(m.peak_time) : nlohmann::json()},
+          {"peak_note", m.has_peak ? nlohmann::json() : nlohmann::json(m.no_peak)},
           {"overshoot_percent", JsonNumber(m.overshoot_percent)},
           {"undershoot_percent", JsonNumber(m.undershoot_percent)},
           {"settling_time", JsonNumber(m.settling_time)},
@@ -321,7 +325,8 @@ class SimulateCommand : public Command {
           FormatNumber(metrics->initial) + " -> " + FormatNumber(metrics->final_value));
     m.Add("rise time (10-90 %)", FormatQuantity(metrics->rise_time, "s"));
     m.Add("overshoot", FormatQuantity(metrics->overshoot_percent, "%", 3));
-    m.Add("peak time", FormatQuantity(metrics->peak_time, "s"));
+    m.Add("peak time", metrics->has_peak ? FormatQuantity(metrics->peak_time, "s")
+                                         : "no peak (" + metrics->no_peak.substr(9) + ")");
     m.Add("settling time (2 %)",
           metrics->settled ? FormatQuantity(metrics->settling_time, "s") : "not settled");
     if (closed) m.Add("steady-state error", FormatNumber(metrics->steady_state_error));

@@ -223,6 +223,7 @@ void StepMetricsOptions::Validate() const {
     fail("hysteresis_sd", hysteresis_sd, "must be finite and >= 0");
   if (!(smooth_time >= 0.0 && std::isfinite(smooth_time)))
     fail("smooth_time", smooth_time, "must be finite and >= 0 (0 = automatic)");
+  if (!(peak_min >= 0.0 && peak_min < 1.0)) fail("peak_min", peak_min, "must be in [0, 1)");
 }
 
 StepMetrics MeasureStep(std::span<const double> t, std::span<const double> y, double t_step,
@@ -292,7 +293,10 @@ StepMetrics MeasureStep(std::span<const double> t, std::span<const double> y, do
   m.peak = m.final_value;
   m.rise_time = kNaN;
   m.settling_time = kNaN;
-  if (delta == 0.0) return m;  // no step to measure
+  if (delta == 0.0) {  // no step to measure
+    m.no_peak = "no peak: the final value equals the initial one, so there is no step";
+    return m;
+  }
   h /= std::abs(delta);
   std::vector<double> z(n), s(n);
   for (size_t i = 0; i < n; ++i) {
@@ -336,6 +340,21 @@ StepMetrics MeasureStep(std::span<const double> t, std::span<const double> y, do
   m.peak = m.initial + z_peak * delta;
   m.peak_time = t_peak - t_step;
   m.overshoot_percent = z_peak - 1.0 > h ? 100.0 * (z_peak - 1.0) : 0.0;
+  // Is there a peak (the rule in the header)?
+  const double peak_floor = std::max(h, options.peak_min);
+  const double tail_start = t_end - options.tail_fraction * (t_end - t[begin]);
+  if (!(z_peak - 1.0 > peak_floor)) {
+    m.no_peak = "no peak: the response rises " +
+                SignificantText(std::max(0.0, 100.0 * (z_peak - 1.0)), 3) +
+                " % of the step above its final value, and a peak needs more than " +
+                SignificantText(100.0 * peak_floor, 3) + " %";
+  } else if (t_peak >= tail_start) {
+    m.no_peak = "no peak: the largest value, " + SignificantText(t_peak - t_step, 4) +
+                " s after the step, is in the last " +
+                SignificantText(100.0 * options.tail_fraction, 3) +
+                " % of the record, where the response has not turned back";
+  }
+  m.has_peak = m.no_peak.empty();
 
   // Undershoot: the largest excursion opposite the change before reaching rise_high.
   const size_t stop = std::isnan(t_high) ? n : i_high;

@@ -15,8 +15,17 @@
 // the record must be long enough for the response to settle. A record whose final value equals
 // its initial value has no step: rise and settling time are NaN, settled is false, overshoot and
 // undershoot are 0.
-// When the response does not overshoot, peak and peak time are those of its largest value (for a
-// monotone response, near the end of the record).
+// Whether there is a peak (has_peak). The response has a peak when both hold:
+//   - it rises above the final value by more than peak_min * |change| (0.1 % by default, below
+//     what a summary's overshoot or a rig's sensor shows; in noisy mode also by more than the
+//     hysteresis, below which the overshoot is reported as 0), and
+//   - the largest value comes before the tail (the last tail_fraction of the record after the
+//     step, the same tail `settled` is judged on): a response still creeping up, or a flat noisy
+//     plateau, has its largest value there, not a peak it turns back from.
+// Otherwise has_peak is false and no_peak says why in one sentence. peak and peak_time are still
+// those of the largest value (for a monotone response, near the end of the record), so a reader
+// comparing the peak time with a limit sees the same number as before the rule existed; what such
+// a limit means without a peak is the reader's to document (design/response_band.h: peak_max).
 // For measured data (`noisy`), step_metrics.cc's header comment gives the method in full: the
 // noise standard deviation comes from the MAD of second differences; initial and final are 25 %
 // trimmed means of the samples before the step and of the settled tail; crossings, the peak and
@@ -28,6 +37,7 @@
 
 #include <optional>
 #include <span>
+#include <string>
 
 namespace lw {
 
@@ -46,6 +56,9 @@ struct StepMetricsOptions {
   // Noisy mode: width in seconds of the local quadratic smoothing window; 0 = automatic (a tenth
   // of a rough rise time). >= 0.
   double smooth_time = 0.0;
+  // Smallest rise above the final value, as a fraction of |change|, that counts as a peak
+  // (has_peak); in [0, 1).
+  double peak_min = 0.001;
   // Validates the fields; throws UsageError naming the field, its value and the rule it broke.
   void Validate() const;
 };
@@ -54,8 +67,10 @@ struct StepMetrics {
   double initial = 0.0;
   double final_value = 0.0;
   double rise_time = 0.0;  // s; NaN when the response never reaches rise_high
-  double peak_time = 0.0;  // s
+  double peak_time = 0.0;  // s; that of the largest value also when has_peak is false
   double peak = 0.0;       // extreme output value in the direction of the change
+  bool has_peak = false;   // the rule above: a real overshoot, before the tail
+  std::string no_peak;     // "no peak: " and why, one sentence; empty when has_peak
   double overshoot_percent = 0.0;
   double undershoot_percent = 0.0;
   double settling_time = 0.0;       // s; NaN when never settled within the record

@@ -1,5 +1,5 @@
 # End-to-end tests of the loopwright binary (tests/app/cli_test.py), one ctest per case.
-foreach(case version help simulate_open simulate_closed simulate_csv_input errors recordings)
+foreach(case version help simulate_open simulate_closed simulate_no_peak simulate_csv_input errors recordings)
   if(case STREQUAL "recordings")
     set(name app_recordings_determinism)
   else()

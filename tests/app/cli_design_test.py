@@ -192,6 +192,65 @@ def case_ogata_predict():
           "the overshoot row fails the 5 % limit")
 
 
+# Plant 1.5 / ((8 s + 1)(3 s + 1)) under P control: T(s) = 1.5 K / (24 s^2 + 11 s + 1 + 1.5 K), a
+# second order without zeros, wn^2 = (1 + 1.5 K) / 24 and 2 zeta wn = 11 / 24. Closed forms (from
+# memory, Ogata, Modern Control Engineering, transient-response specifications): zeta > 1 gives a
+# monotone step without overshoot; zeta < 1 peaks at pi / wd with overshoot
+# 100 exp(-zeta pi / sqrt(1 - zeta^2)).
+LAG2 = "1.5/((8*s+1)*(3*s+1))"
+
+
+def lag2_shape(k):
+    wn = math.sqrt((1 + 1.5 * k) / 24)
+    return 11 / 24 / (2 * wn), wn
+
+
+def case_no_peak():
+    zeta, wn = lag2_shape(0.05)
+    check(zeta > 1, f"K = 0.05 is overdamped (zeta {zeta:.4f})")
+    code, out, err = run("predict", "--plant", LAG2, "--gain", "0.05", "--duration", "200")
+    check(code == 0, f"predict of the overdamped loop exits 0 ({err!r})")
+    row = next((l for l in out.splitlines() if l.strip().startswith("peak time ")), "")
+    check(re.fullmatch(r"\s+peak time\s+no peak\s*", row) is not None,
+          f"peak time row says 'no peak', no number ({row!r})")
+    check(re.search(r"^\s+no peak: the response rises 0 % of the step above its final value", out,
+                    re.M) is not None, f"a line says why there is no peak ({out!r})")
+    doc = run_json("predict", "--plant", LAG2, "--gain", "0.05", "--duration", "200")
+    m = doc.get("metrics", {})
+    check(m.get("peak_time", 0) is None, f"JSON peak_time is null ({m})")
+    check(str(m.get("peak_note")).startswith("no peak: "), f"JSON peak_note says why ({m})")
+    check(m.get("overshoot_percent") == 0, f"overdamped: overshoot 0 ({m})")
+    # The saved prediction in the report: the peak time cell says "no peak" and a sentence why.
+    pred = path("no_peak_prediction.json")
+    code, _, err = run("predict", "--plant", LAG2, "--gain", "0.05", "--save", pred)
+    check(code == 0, f"predict --save exits 0 ({err!r})")
+    report = path("no_peak_report.html")
+    code, _, err = run("report", pred, "-o", report)
+    check(code == 0, f"report of the prediction exits 0 ({err!r})")
+    with open(report) as f:
+        html = f.read()
+    check(re.search(r"peak time \(s\)</t[dh]>\s*<td[^>]*>no peak<", html) is not None,
+          "the report's peak time cell says 'no peak'")
+    check("Peak time: no peak; the response rises 0 %" in html, "the report says why")
+
+    # Underdamped: the peak time and overshoot are the closed forms' numbers, as before.
+    zeta, wn = lag2_shape(1.0)
+    check(zeta < 1, f"K = 1 is underdamped (zeta {zeta:.4f})")
+    doc = run_json("predict", "--plant", LAG2, "--gain", "1", "--duration", "200")
+    m = doc.get("metrics", {})
+    wd = wn * math.sqrt(1 - zeta * zeta)
+    check(close(m.get("peak_time"), math.pi / wd, 1e-4),
+          f"peak time {m.get('peak_time')} is pi / wd = {math.pi / wd:.6g}")
+    want = 100 * math.exp(-zeta * math.pi / math.sqrt(1 - zeta * zeta))
+    check(close(m.get("overshoot_percent"), want, 1e-3),
+          f"overshoot {m.get('overshoot_percent')} is {want:.6g} %")
+    check(m.get("peak_note", 0) is None, f"JSON peak_note is null with a peak ({m})")
+    code, out, err = run("predict", "--plant", LAG2, "--gain", "1", "--duration", "200")
+    row = next((l for l in out.splitlines() if l.strip().startswith("peak time ")), "")
+    check(f"{math.pi / wd:.4g} s" in row, f"peak time row gives pi / wd ({row!r})")
+    check("no peak" not in out, "no 'no peak' with a peak")
+
+
 SCIPY_METRICS = r"""
 import json
 import numpy as np

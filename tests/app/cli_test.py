@@ -165,6 +165,45 @@ def case_simulate_closed():
     check(worst < 1e-6, f"clipped loop follows the first-order response (max error {worst:.3g})")
 
 
+def case_simulate_no_peak():
+    # Two real lags 1.5 / ((8 s + 1)(3 s + 1)): the step response
+    # y = 1.5 (1 - (8 exp(-t/8) - 3 exp(-t/3)) / 5) (partial fractions) rises monotonically, so
+    # it has no peak, noise-free or measured with noise.
+    lags = "1.5/((8*s+1)*(3*s+1))"
+    for extra in ([], ["--noise", "0.01", "--seed", "3"]):
+        args = ["simulate", "--plant", lags, "--input", "step:0:1:5", "--rate", "2", "--duration",
+                "200", "-o", path("lags.csv")] + extra
+        code, out, err = run(*args)
+        check(code == 0, f"{extra}: simulate exits 0 ({err!r})")
+        row = next((l for l in out.splitlines() if l.strip().startswith("peak time:")), "")
+        check(re.fullmatch(r"\s+peak time:\s+no peak \(the response rises \S+ % of the step above "
+                           r"its final value, and a peak needs more than \S+ %\)\s*", row)
+              is not None, f"{extra}: peak time says 'no peak' and why ({row!r})")
+        code, out, err = run(*args, "--json")
+        m = json.loads(out)["metrics"]
+        check(m["peak_time"] is None, f"{extra}: JSON peak_time is null ({m})")
+        check(str(m.get("peak_note")).startswith("no peak: "), f"{extra}: JSON peak_note says why ({m})")
+        check(m["overshoot_percent"] == 0, f"{extra}: no overshoot ({m})")
+    # Underdamped 4 / (s^2 + 0.8 s + 4), zeta 0.2, wn 2: the peak at pi / wd, wd = wn sqrt(1 -
+    # zeta^2), and overshoot exp(-zeta pi / sqrt(1 - zeta^2)) (Ogata, Modern Control Engineering,
+    # transient-response specifications; from memory), both as before.
+    args = ["simulate", "--plant", "4/(s^2+0.8*s+4)", "--input", "step:0:1:1", "--rate", "100",
+            "--duration", "40", "-o", path("pair.csv")]
+    wd = 2 * math.sqrt(1 - 0.04)
+    code, out, err = run(*args, "--json")
+    m = json.loads(out)["metrics"]
+    check(abs(m["peak_time"] - math.pi / wd) < 1e-3 * math.pi / wd,
+          f"peak time {m['peak_time']} is pi / wd = {math.pi / wd:.6g}")
+    want = 100 * math.exp(-0.2 * math.pi / math.sqrt(1 - 0.04))
+    check(abs(m["overshoot_percent"] - want) < 1e-3 * want,
+          f"overshoot {m['overshoot_percent']} is {want:.6g} %")
+    check(m.get("peak_note", 0) is None, f"JSON peak_note is null with a peak ({m})")
+    code, out, err = run(*args)
+    row = next((l for l in out.splitlines() if l.strip().startswith("peak time:")), "")
+    check(f"{math.pi / wd:.4g} s" in row and "no peak" not in out,
+          f"peak time row gives pi / wd ({row!r})")
+
+
 def case_simulate_csv_input():
     src = path("drive.csv")
     with open(src, "w") as f:

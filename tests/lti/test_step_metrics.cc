@@ -9,6 +9,9 @@
 //     standard control textbook).
 //   - 10-90 % rise time ~ 1.8 / wn near zeta = 0.5 (common practice; the rule is known to be good
 //     to about 10 % there).
+//   - Overdamped second order (zeta > 1), poles s1,2 = (zeta -+ sqrt(zeta^2 - 1)) wn: step response
+//       y(t) = 1 + wn / (2 sqrt(zeta^2 - 1)) (exp(-s1 t) / s1 - exp(-s2 t) / s2),
+//     monotone, no overshoot (Ogata, Modern Control Engineering, same section; from memory).
 //   - First order K / (tau s + 1): 10-90 % rise time tau ln 9 and 2 % settling time tau ln 50
 //     (exact, from y = K (1 - exp(-t / tau))).
 //   - Non-minimum-phase (1 - b s) / ((s + 1)(2 s + 1)): y = 1 + (1 + b) e^-t - (2 + b) e^(-t/2),
@@ -78,6 +81,14 @@ double ExactSettling(const Response& f, double band, double t_end, double scan_d
   return Bisect(distance, -band, b, b - scan_dt);
 }
 
+Response Overdamped(double zeta, double wn) {
+  return [=](double t) {
+    const double r = std::sqrt(zeta * zeta - 1);
+    const double s1 = (zeta + r) * wn, s2 = (zeta - r) * wn;
+    return 1.0 + wn / (2 * r) * (std::exp(-s1 * t) / s1 - std::exp(-s2 * t) / s2);
+  };
+}
+
 std::vector<double> AddNoise(std::vector<double> y, double sd, unsigned seed) {
   std::mt19937 rng(seed);
   std::normal_distribution<double> noise(0.0, sd);
@@ -109,6 +120,70 @@ TEST_CASE("Second order: overshoot and peak time against the exact formulas") {
     CHECK(m.rise_time == doctest::Approx(t90 - t10).epsilon(1e-5));
     CHECK(m.settling_time ==
           doctest::Approx(ExactSettling(f, 0.02, 14.0 / (zeta * wn), 1e-3)).epsilon(1e-3));
+  }
+}
+
+TEST_CASE("A peak only where the response overshoots, before the tail (Ogata closed forms)") {
+  const double wn = 0.8;
+  SUBCASE("underdamped: a peak at pi / wd, numbers as before") {
+    const double zeta = 0.5, root = std::sqrt(1 - zeta * zeta);
+    const Sampled s = Sample(SecondOrder(zeta, wn), 0.0, 14.0 / (zeta * wn), 1e-3);
+    const lw::StepMetrics m = lw::MeasureStep(s.t, s.y, 0.0);
+    CHECK(m.has_peak);
+    CHECK(m.no_peak.empty());
+    CHECK(m.peak_time == doctest::Approx(std::numbers::pi / (wn * root)).epsilon(1e-6));
+    CHECK(m.overshoot_percent ==
+          doctest::Approx(100.0 * std::exp(-zeta * std::numbers::pi / root)).epsilon(1e-4));
+  }
+  SUBCASE("overdamped: no overshoot, no peak; the peak time stays that of the largest value") {
+    const double zeta = 1.6, t_end = 60.0;
+    const Sampled s = Sample(Overdamped(zeta, wn), 0.0, t_end, 1e-2);
+    const lw::StepMetrics m = lw::MeasureStep(s.t, s.y, 0.0);
+    CHECK(m.overshoot_percent == 0.0);
+    CHECK_FALSE(m.has_peak);
+    CHECK(m.no_peak.rfind("no peak: the response rises 0 % of the step above its final value", 0) ==
+          0);
+    CHECK(m.peak_time == doctest::Approx(t_end));  // monotone: the last sample is the largest
+    CHECK(m.settled);
+  }
+  SUBCASE("an overshoot below peak_min (0.1 % of the step) is no peak unless peak_min allows it") {
+    // zeta 0.95 overshoots by exp(-0.95 pi / sqrt(1 - 0.95^2)) = 0.0071 %, zeta 0.9 by 0.15 %.
+    for (double zeta : {0.9, 0.95}) {
+      CAPTURE(zeta);
+      const double root = std::sqrt(1 - zeta * zeta);
+      const double exact = 100.0 * std::exp(-zeta * std::numbers::pi / root);
+      const Sampled s = Sample(SecondOrder(zeta, wn), 0.0, 20.0 / (zeta * wn), 1e-3);
+      const lw::StepMetrics m = lw::MeasureStep(s.t, s.y, 0.0);
+      CHECK(m.overshoot_percent == doctest::Approx(exact).epsilon(1e-3));
+      CHECK(m.has_peak == (exact > 0.1));
+      lw::StepMetricsOptions any;
+      any.peak_min = 0.0;
+      const lw::StepMetrics a = lw::MeasureStep(s.t, s.y, 0.0, any);
+      CHECK(a.has_peak);
+      CHECK(a.peak_time == doctest::Approx(std::numbers::pi / (wn * root)).epsilon(1e-4));
+    }
+  }
+  SUBCASE("measured overdamped plateau, flat or still creeping: no peak") {
+    const double zeta = 1.6, t_end = 60.0;
+    const Response f = Overdamped(zeta, wn);
+    const Sampled s = Sample(f, 0.0, t_end, 1e-2);
+    lw::StepMetricsOptions noisy;
+    noisy.noisy = true;
+    for (unsigned seed : {1u, 2u, 3u}) {
+      CAPTURE(seed);
+      const lw::StepMetrics flat = lw::MeasureStep(s.t, AddNoise(s.y, 0.004, seed), 0.0, noisy);
+      CHECK_FALSE(flat.has_peak);
+      CHECK(flat.no_peak.rfind("no peak: ", 0) == 0);
+      // A creep of 10 % of the step over the record: the tail's average is below its last
+      // samples, so the largest value overshoots that average, but in the tail.
+      std::vector<double> creeping = s.y;
+      for (size_t i = 0; i < creeping.size(); ++i) creeping[i] += 0.1 * s.t[i] / t_end;
+      const lw::StepMetrics c = lw::MeasureStep(s.t, AddNoise(creeping, 0.004, seed), 0.0, noisy);
+      CHECK(c.overshoot_percent > 0.0);
+      CHECK(c.peak_time > 0.8 * t_end);
+      CHECK_FALSE(c.has_peak);
+      CHECK(c.no_peak.find("is in the last 20 % of the record") != std::string::npos);
+    }
   }
 }
 
@@ -175,6 +250,7 @@ TEST_CASE("A record that ends before settling is reported as not settled") {
   CHECK(std::isnan(none.rise_time));
   CHECK(std::isnan(none.settling_time));
   CHECK_FALSE(none.settled);
+  CHECK_FALSE(none.has_peak);
 }
 
 TEST_CASE("Noisy second order: metrics close to the noise-free ones, no false crossings") {
@@ -234,6 +310,10 @@ TEST_CASE("Bad arguments are usage errors naming the rule") {
   o = {};
   o.settle_band = 0.0;
   CHECK_THROWS_AS(o.Validate(), lw::UsageError);
+  o = {};
+  o.peak_min = 1.0;
+  CHECK_THROWS_WITH_AS(o.Validate(), "step metrics option peak_min = 1: must be in [0, 1)",
+                       lw::UsageError);
   CHECK_THROWS_AS(lw::MeasureStep(t, std::vector<double>{0, 1}, 0.0), lw::UsageError);
   CHECK_THROWS_AS(lw::MeasureStep(t, y, 1.5), lw::UsageError);  // 2 samples after the step
   const std::vector<double> back = {0, 2, 1, 3};
