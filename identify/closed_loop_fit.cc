@@ -208,6 +208,7 @@ void ClosedLoopFitOptions::Validate() const {
     throw UsageError("closed-loop fit max_iterations " + std::to_string(max_iterations) +
                      ": must be >= 1");
   }
+  selection.Validate();
 }
 
 ClosedLoopResponse ClosedLoopPrediction(const TransferFunction& plant, const Controller& controller,
@@ -424,13 +425,14 @@ ClosedLoopFit FitClosedLoop(const ClosedLoopRecording& rec, const ClosedLoopFitO
   FitOptions fo;
   fo.input_unit = options.input_unit;
   fo.output_unit = options.output_unit;
+  fo.selection = options.selection;
   fo.structure = options.structure;
   const StepRecording open{rec.t, rec.u, rec.y};
   Identification first = Identify(open, fo);
   if (options.structure != "auto") return PolishInLoop(rec, options, std::move(first), first_move);
 
   // "auto": every structure the open-loop fit could use, each started from its own open-loop
-  // fit and polished in the loop; the smallest output-channel AICc wins.
+  // fit and polished in the loop; chosen on the output-channel AICc (structure_selection.h).
   std::vector<Candidate> candidates = first.candidates;
   std::vector<double> criterion(candidates.size(), kInf);
   std::vector<bool> usable(candidates.size(), false);
@@ -455,18 +457,18 @@ ClosedLoopFit FitClosedLoop(const ClosedLoopRecording& rec, const ClosedLoopFitO
     criterion[i] = m.aicc;
     usable[i] = true;
   }
-  const int chosen = SelectMinimum(criterion, usable);
+  for (size_t i = 0; i < candidates.size(); ++i) candidates[i].usable = usable[i];
+  std::string note;
+  const int chosen = ChooseCandidate(candidates, options.selection, note);
   if (chosen < 0) {
     throw JobFailed("no structure could be fitted inside the loop with controller " +
                     options.controller.ToString() + " at K = " + Num(options.gain) +
                     ": check --controller and --gain");
   }
-  for (size_t i = 0; i < candidates.size(); ++i) {
-    if (usable[i]) candidates[i].delta_aicc = criterion[i] - criterion[chosen];
-  }
   ClosedLoopFit out = std::move(fits[chosen]);
   out.automatic = true;
   out.candidates = std::move(candidates);
+  out.selection_note = std::move(note);
   return out;
 }
 

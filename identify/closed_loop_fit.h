@@ -36,7 +36,8 @@
 //
 // Structure: `structure` names one (model_structure.h); "auto" fits every structure the
 // open-loop fit could use (identify/fit.h's candidates), each started from its own open-loop fit
-// and polished in the loop as above, and keeps the one with the smallest criterion. The
+// and polished in the loop as above, and chooses by structure_selection.h (the smallest criterion,
+// or a simpler structure within a near-tie of it). The
 // criterion (aicc) is that of the output channel, n ln(RSS_y / n) + 2k + 2k(k + 1)/(n - k - 1)
 // (structure_selection.h), k counting y_rest and u_rest. A candidate whose loop is unstable or
 // whose solve fails is listed as not usable with the reason. Cost: one solve costs a few
@@ -72,6 +73,7 @@ struct ClosedLoopFitOptions {
   int reweight_rounds = 3;                                 // 1..10 solves
   int max_iterations = 50;                                 // Ceres iterations per solve, >= 1
   std::string input_unit, output_unit;                     // for parameter units, may be empty
+  SelectionOptions selection;  // how "auto" chooses (structure_selection.h)
   // Throws UsageError naming the field, its value and the rule it broke.
   void Validate() const;
 };
@@ -87,6 +89,7 @@ struct ClosedLoopFit {
   int solves = 0;                          // weighted solves run
   bool automatic = false;                  // "auto": chosen among `candidates`
   std::vector<Candidate> candidates;       // "auto" only, in AllStructures() order, in-loop fits
+  std::string selection_note;              // "auto": as Identification::selection_note
   std::vector<std::string> warnings;
 };
 

@@ -259,6 +259,38 @@ void FitOptions::Validate() const {
   if (max_iterations < 1) {
     throw UsageError("max_iterations " + std::to_string(max_iterations) + ": must be >= 1");
   }
+  selection.Validate();
+}
+
+int ChooseCandidate(std::vector<Candidate>& candidates, const SelectionOptions& options,
+                    std::string& note) {
+  std::vector<double> crit;
+  std::vector<int> k;
+  std::vector<bool> usable;
+  for (const auto& c : candidates) {
+    crit.push_back(c.usable ? c.aicc : kInf);
+    k.push_back(c.free_parameters);
+    usable.push_back(c.usable);
+  }
+  const Selection sel = SelectStructure(crit, k, usable, options);
+  note.clear();
+  for (size_t i = 0; i < candidates.size(); ++i) {
+    Candidate& c = candidates[i];
+    c.delta_aicc = c.usable && sel.smallest >= 0 ? c.aicc - crit[sel.smallest] : kInf;
+    c.smallest = static_cast<int>(i) == sel.smallest;
+    c.chosen = static_cast<int>(i) == sel.chosen;
+  }
+  if (sel.chosen != sel.smallest) {
+    const Candidate& a = candidates[static_cast<size_t>(sel.chosen)];
+    const Candidate& b = candidates[static_cast<size_t>(sel.smallest)];
+    note = std::string(StructureName(a.structure)) + " is chosen: within delta AICc " +
+           Num(options.support_width) + " of the smallest (" +
+           std::string(StructureName(b.structure)) + ", delta " + Num(a.delta_aicc) +
+           ") it has the fewest parameters (" + std::to_string(a.free_parameters) + " against " +
+           std::to_string(b.free_parameters) +
+           "), and a difference that small is no evidence for the larger structure";
+  }
+  return sel.chosen;
 }
 
 FitResult FitStructure(Structure s, const StepRecording& rec, const RecordingAnalysis& a,
@@ -469,6 +501,7 @@ Identification Identify(const StepRecording& recording, const FitOptions& option
     }
   } else {
     id.automatic = true;
+    id.selection = options.selection;
     std::vector<FitResult> fits;
     std::vector<double> crit;
     std::vector<bool> usable;
@@ -501,9 +534,8 @@ Identification Identify(const StepRecording& recording, const FitOptions& option
       usable.push_back(c.usable);
       fits.push_back(std::move(f));
     }
-    int best = SelectMinimum(crit, usable);
+    const int best = ChooseCandidate(id.candidates, options.selection, id.selection_note);
     if (best < 0) throw JobFailed("no structure could be fitted to the recording");
-    for (auto& c : id.candidates) c.delta_aicc = c.usable ? c.aicc - crit[best] : kInf;
     id.model = fits[static_cast<size_t>(best)];
   }
   for (const auto& w : id.model.warnings) id.warnings.push_back(w);

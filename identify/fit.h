@@ -53,6 +53,7 @@
 #include "identify/model_structure.h"
 #include "identify/preprocess.h"
 #include "identify/step_detection.h"
+#include "identify/structure_selection.h"
 #include "lti/transfer_function.h"
 
 namespace lw {
@@ -69,6 +70,7 @@ struct FitOptions {
   size_t start_samples = 400;           // blocks of the reduced record the multi-start runs on
   int max_iterations = 100;             // Ceres iterations of the final polish
   std::string input_unit, output_unit;  // for parameter units, may be empty
+  SelectionOptions selection;           // how "auto" chooses (structure_selection.h)
   // Throws UsageError naming the field, its value and the rule it broke.
   void Validate() const;
 };
@@ -108,8 +110,12 @@ struct Candidate {
   Structure structure = Structure::kFopdt;
   bool usable = false;
   std::string note;  // why not usable, or empty
+  // delta_aicc = aicc - the smallest usable aicc (0 for the smallest, also when another
+  // candidate is chosen).
   double fit_percent = 0.0, residual_rms = 0.0, aicc = 0.0, delta_aicc = 0.0;
   int free_parameters = 0;
+  bool smallest = false;  // has the smallest AICc
+  bool chosen = false;    // is the model returned
 };
 
 struct Identification {
@@ -117,6 +123,8 @@ struct Identification {
   bool automatic = false;
   std::vector<Candidate> candidates;  // `auto` only, in AllStructures() order
   std::string criterion = "AICc";
+  SelectionOptions selection;         // `auto`: the rule the choice followed
+  std::string selection_note;         // `auto`: why the chosen is not the smallest AICc, or empty
   std::vector<std::string> warnings;  // about the recording, then about the model
   RecordingAnalysis analysis;
   size_t samples_in = 0;  // after the window, before decimation
@@ -133,6 +141,12 @@ Identification Identify(const StepRecording& recording, const FitOptions& option
 // (fopdt for the others, sopdt for sopdt-zero) to start from.
 FitResult FitStructure(Structure s, const StepRecording& recording, const RecordingAnalysis& a,
                        const FitOptions& options, const FitResult* seed = nullptr);
+
+// Chooses among `candidates` (their usable, aicc and free_parameters) by SelectStructure, fills
+// delta_aicc, smallest and chosen, and returns the chosen index (-1: none usable) and in `note`
+// one sentence when the chosen is not the smallest AICc (else empty).
+int ChooseCandidate(std::vector<Candidate>& candidates, const SelectionOptions& options,
+                    std::string& note);
 
 // Student t quantile (two-sided 95 %: p = 0.975) for dof degrees of freedom.
 double StudentQuantile(double p, double dof);

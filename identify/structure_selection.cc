@@ -3,6 +3,9 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <sstream>
+
+#include "lti/error.h"
 
 namespace lw {
 
@@ -31,6 +34,34 @@ int SelectMinimum(const std::vector<double>& criterion, const std::vector<bool>&
     if (best < 0 || criterion[i] < criterion[static_cast<size_t>(best)]) best = static_cast<int>(i);
   }
   return best;
+}
+
+void SelectionOptions::Validate() const {
+  if (!(std::isfinite(support_width) && support_width >= 0.0)) {
+    std::ostringstream v;
+    v << support_width;
+    throw UsageError("support_width " + v.str() + ": must be a finite number >= 0");
+  }
+}
+
+Selection SelectStructure(const std::vector<double>& criterion,
+                          const std::vector<int>& free_parameters, const std::vector<bool>& usable,
+                          const SelectionOptions& options) {
+  options.Validate();
+  Selection s;
+  s.smallest = SelectMinimum(criterion, usable);
+  s.chosen = s.smallest;
+  if (s.smallest < 0 || !options.prefer_fewer_parameters) return s;
+  const double limit = criterion[static_cast<size_t>(s.smallest)] + options.support_width;
+  for (size_t i = 0; i < criterion.size() && i < usable.size() && i < free_parameters.size(); ++i) {
+    if (!usable[i] || !std::isfinite(criterion[i]) || criterion[i] > limit) continue;
+    const size_t c = static_cast<size_t>(s.chosen);
+    if (free_parameters[i] < free_parameters[c] ||
+        (free_parameters[i] == free_parameters[c] && criterion[i] < criterion[c])) {
+      s.chosen = static_cast<int>(i);
+    }
+  }
+  return s;
 }
 
 std::string_view CriterionRationale() {

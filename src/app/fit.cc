@@ -2,6 +2,7 @@
 //
 //   loopwright fit REC.csv [--time C --input C --output C --time-unit U]
 //                  [--structure auto|fopdt|sopdt|underdamped|integrating|sopdt-zero]
+//                  [--simpler-within DELTA]
 //                  [--window T0:T1] [--robust [--loss huber|cauchy]] [-o MODEL.json] [--json]
 //                  [--plot FIG.svg]
 //                  [--input-unit U] [--output-unit U]
@@ -10,8 +11,12 @@
 //   loopwright fit NEW.csv --compare OLD.json [--band OLD_BAND.json] [--gain K] ...
 //
 // Prints the parameters with 95 % intervals, the fit percentage, the criterion and warnings
-// (identify/fit.h explains the method). -o writes the model file (io/model_file.h) only after a
-// successful fit, atomically. Exit 3 for an unusable recording, 1 when no fit converges.
+// (identify/fit.h explains the method). --structure auto fits every structure and chooses by
+// AICc, the fewest parameters among those within --simpler-within (default 2) of the smallest
+// (identify/structure_selection.h); the candidate table marks the chosen one with *, names the
+// smallest AICc when it differs and says why in one line below. -o writes the model file
+// (io/model_file.h) only after a successful fit, atomically. Exit 3 for an unusable recording, 1
+// when no fit converges.
 //
 // --closed-loop: the recording was made under feedback (columns t, r, u, y); the plant is fitted
 // inside the known loop C = K shape (identify/closed_loop_fit.h).
@@ -113,8 +118,13 @@ nlohmann::json ResultJson(const Identification& id) {
                                    {"residual_rms", JsonNumber(c.usable ? c.residual_rms : kNaN)},
                                    {"aicc", JsonNumber(c.usable ? c.aicc : kNaN)},
                                    {"delta_aicc", JsonNumber(c.usable ? c.delta_aicc : kNaN)},
-                                   {"free_parameters", c.free_parameters}});
+                                   {"free_parameters", c.free_parameters},
+                                   {"smallest_aicc", c.smallest},
+                                   {"chosen", c.chosen}});
     }
+    doc["selection"] = {{"prefer_fewer_parameters", id.selection.prefer_fewer_parameters},
+                        {"support_width", JsonNumber(id.selection.support_width)},
+                        {"note", id.selection_note}};
   }
   return doc;
 }
@@ -180,7 +190,12 @@ class FitCommand : public Command {
     sub.add_option("REC.csv", path_, "Step-test recording (CSV)")->required();
     columns_.Add(sub, ColumnSet{true, true, true});
     sub.add_option("--structure", structure_,
-                   "auto, fopdt, sopdt, underdamped, integrating or sopdt-zero")
+                   "auto (every structure, chosen by AICc: see --simpler-within), fopdt, "
+                   "sopdt, underdamped, integrating or sopdt-zero")
+        ->capture_default_str();
+    sub.add_option("--simpler-within", simpler_within_,
+                   "auto: among structures within this delta AICc of the smallest, take the one "
+                   "with the fewest parameters (0: the smallest AICc alone)")
         ->capture_default_str();
     sub.add_option("--window", window_, "Use only T0 <= t <= T1 (seconds), e.g. 5:60");
     sub.add_flag("--robust", robust_, "Down-weight spikes with a robust loss (IRLS)");
@@ -209,6 +224,12 @@ class FitCommand : public Command {
   int Run(Context& ctx) override {
     FitOptions options;
     options.structure = structure_;
+    if (!(std::isfinite(simpler_within_) && simpler_within_ >= 0.0)) {
+      throw UsageError("--simpler-within " + FormatNumber(simpler_within_) +
+                       ": must be a delta AICc >= 0 (0 takes the smallest AICc)");
+    }
+    options.selection.prefer_fewer_parameters = simpler_within_ > 0.0;
+    options.selection.support_width = simpler_within_;
     if (!window_.empty()) ParseWindow(window_, options.window_start, options.window_end);
     if (robust_) {
       if (loss_ == "huber") {
@@ -259,10 +280,13 @@ class FitCommand : public Command {
         co.gain = controller_.gain();
         co.input_unit = options.input_unit;
         co.output_unit = options.output_unit;
+        co.selection = options.selection;
         loop_fit = FitClosedLoop(ClosedLoopRecording{rec.t, rec.r, rec.u, rec.y}, co);
         id.model = loop_fit->model;
         id.automatic = loop_fit->automatic;
         id.candidates = loop_fit->candidates;
+        id.selection = co.selection;
+        id.selection_note = loop_fit->selection_note;
         id.analysis = loop_fit->start.analysis;
         id.samples_in = rec.t.size();
         id.warnings = loop_fit->warnings;
@@ -401,7 +425,9 @@ class FitCommand : public Command {
 
   void PrintHuman(Context& ctx, const Identification& id, const FitOptions& options) {
     const FitResult& m = id.model;
-    std::string how = id.automatic ? " (chosen by AICc)" : "";
+    std::string how = !id.automatic               ? ""
+                      : id.selection_note.empty() ? " (chosen by AICc)"
+                                                  : " (chosen by AICc, the simpler of a near-tie)";
     ctx.out << Bold(ctx, std::string(StructureName(m.structure))) << how << ": "
             << FactoredModelText(m.structure, m.values) << "\n";
     ctx.out << "  units: gain in " << (options.output_unit.empty() ? "output" : options.output_unit)
@@ -431,22 +457,30 @@ class FitCommand : public Command {
       ctx.out << "candidates (" << CriterionRationale() << "):\n";
       TextTable cands({"structure", "fit %", "residual rms", "AICc", "delta", "note"});
       for (const auto& c : id.candidates) {
-        std::string mark = c.structure == m.structure ? " *" : "";
+        std::string mark = c.chosen ? " *" : "";
         if (!c.usable) {
           cands.AddRow({std::string(StructureName(c.structure)), "", "", "", "", c.note});
           continue;
         }
+        std::string note = c.note;
+        if (c.smallest && !c.chosen)
+          note = note.empty() ? "smallest AICc" : note + "; smallest AICc";
         cands.AddRow({std::string(StructureName(c.structure)) + mark, FormatNumber(c.fit_percent),
                       FormatNumber(c.residual_rms), FormatNumber(c.aicc, 6),
-                      FormatNumber(c.delta_aicc, 3), c.note});
+                      FormatNumber(c.delta_aicc, 3), note});
       }
       cands.Print(ctx.out);
+      if (!id.selection_note.empty()) {
+        ctx.out << "* " << id.selection_note << " (common practice; --simpler-within 0 takes the "
+                << "smallest AICc)\n";
+      }
     }
   }
 
   std::string path_;
   ColumnOptions columns_;
   std::string structure_ = "auto";
+  double simpler_within_ = 2.0;
   std::string window_;
   bool robust_ = false;
   std::string loss_ = "huber";

@@ -7,7 +7,8 @@
 // The whole job on one rig session, every file in OUT and every result in the rig logbook:
 //   1. step test U0 -> U1 (default: U0 40 % up the actuator range, U1 = U0 + 10 % of the actuator
 //      range, downwards when upwards does not fit, no more than --max-step) -> step.csv
-//   2. `fit step.csv` (with --structure, default auto: every structure, chosen by AICc) ->
+//   2. `fit step.csv` (with --structure, default auto: every structure, chosen by AICc, the fewest
+//      parameters within 2 of the smallest) ->
 //      model.json, fit.svg
 //   3. `band model.json` with the specs (options, else the profile's [specs], else an overshoot
 //      of at most 10 %, common practice) -> band.json; the proposed gain is its recommendation
@@ -107,7 +108,8 @@ class TuneCommand : public Command {
     sub.add_option("--ref-step", ref_step_,
                    "Verification step A:B (default: from the step test's levels)");
     sub.add_option("--structure", structure_,
-                   "Model structure fit uses: auto (each, chosen by AICc) or one of fit's names")
+                   "Model structure fit uses: auto (each, chosen by AICc, the simpler of a "
+                   "near-tie) or one of fit's names")
         ->capture_default_str();
     sub.add_option("--rise-max", rise_max_, "Spec: largest 10-90 % rise time, s");
     sub.add_option("--overshoot-max", overshoot_max_, "Spec: largest overshoot, percent");

@@ -155,7 +155,8 @@ def case_closed_loop():
     check(doc["units"]["time"] == "s", "units.time")
     # auto: every structure fitted inside the loop, in seconds (it once never finished: a dead
     # time a hair off a whole number of samples stalled the loop simulation); the card's
-    # structure wins on AICc.
+    # structure is chosen (identify/structure_selection.h: the smallest AICc, or the structure
+    # with fewest parameters within the near-tie width of it).
     code, out, err = run("fit", os.path.join(REC, "heater_zone_closed_loop.csv"), "--closed-loop",
                          "--controller", "pi:0.005", "--gain", "1.2", "--json", timeout=60)
     check(code == 0, f"--structure auto in the loop exits 0 within 60 s ({code}: {err.strip()})")
@@ -167,10 +168,19 @@ def case_closed_loop():
     check(len(usable) >= 3, f"at least three structures fitted in the loop ({len(usable)})")
     if usable:
         best = min(usable, key=lambda c: c["aicc"])
-        check(best["structure"] == doc["structure"] and best["delta_aicc"] == 0,
-              f"the structure with the smallest AICc is chosen ({best['structure']})")
-        check(abs(best["aicc"] - doc["criterion"]["value"]) < 1e-9 * abs(best["aicc"]),
-              "the chosen candidate's AICc is the model's criterion")
+        check(best["smallest_aicc"] and best["delta_aicc"] == 0
+              and sum(c["smallest_aicc"] for c in usable) == 1,
+              f"the structure with the smallest AICc is marked ({best['structure']})")
+        chosen = [c for c in usable if c["chosen"]]
+        check(len(chosen) == 1 and chosen[0]["structure"] == doc["structure"],
+              f"the chosen candidate is marked and is the model ({[c['structure'] for c in chosen]})")
+        width = doc.get("selection", {}).get("support_width", 0)
+        for c in chosen:
+            check(c is best or (c["delta_aicc"] <= width
+                                and c["free_parameters"] < best["free_parameters"]),
+                  f"the chosen is the smallest AICc or a simpler one within {width} of it")
+            check(abs(c["aicc"] - doc["criterion"]["value"]) < 1e-9 * abs(c["aicc"]),
+                  "the chosen candidate's AICc is the model's criterion")
     check(doc.get("structure") == "sopdt", f"auto chooses the card's sopdt ({doc.get('structure')})")
     for p in doc.get("parameters", []) if doc.get("structure") == "sopdt" else []:
         rel = abs(p["value"] - truth[p["name"]]) / truth[p["name"]]
@@ -245,6 +255,8 @@ def case_errors():
          r"fig\.bmp"),
         ("missing output folder", ["fit", rework, "-o", path("no/such/dir/m.json")], 2,
          r"does not exist"),
+        ("negative near-tie width", ["fit", rework, "--simpler-within", "-1", "-o", out_file], 2,
+         r"--simpler-within -1: must be a delta AICc >= 0"),
         ("-o equals --plot", ["fit", rework, "-o", path("same.svg"), "--plot", path("same.svg")], 2,
          r"different files"),
         ("controller without closed loop", ["fit", rework, "--controller", "pi:0.1", "-o",

@@ -521,8 +521,9 @@ def case_tune():
     # order with dead time (sopdt, sopdt-zero) for a fixed fraction of noise realizations, about
     # P(chi2 with 1 or 2 degrees of freedom > 2 or 4) = 14-16 % for nested models whatever the
     # record length (Burnham & Anderson, Model Selection and Multimodel Inference; from memory),
-    # and a near pole-zero pair it then adds leaves the dead time undetermined. That choice is
-    # the fit tests' subject (tests/identify, tests/reference/identify_recovery.py).
+    # and a near pole-zero pair it then adds leaves the dead time undetermined. The near-tie rule
+    # there (the fewest parameters within delta AICc 2) undoes those within 2, not the rest. That
+    # choice is the fit tests' subject (tests/identify, tests/reference/identify_recovery.py).
     emu = Emulator("--scenario", "conveyor-drive", "--speed", "8", "--seed", "5")
     out_dir = os.path.join(WORK, "tune_run")
     if os.path.isdir(out_dir):

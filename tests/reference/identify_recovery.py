@@ -7,6 +7,11 @@ and the dead time within one sample period. How precisely a recording determines
 depends on how much it holds, so the noisy test is a longer one, a square wave of many steps
 (the fit uses every step), sized so that 3 % is at least 3 of the fit's own standard errors.
 
+Structure choice (--structure auto): on AUTO_RECORDS one-step records of each plant with 2 %
+noise, the near-tie rule (identify/structure_selection.h: the fewest parameters within delta
+AICc 2 of the smallest) must pick the true structure at least as often as the plain smallest
+AICc (--simpler-within 0) and never less than AUTO_MIN of the time.
+
 Usage: identify_recovery.py LOOPWRIGHT_BINARY WORKDIR"""
 import os
 import sys
@@ -26,6 +31,8 @@ CASES = [
     ("integrating", [0.12, 3.2, 1.1], 0.1, 40.0, 4.0, (50.0, 55.0), 7.5, 15.0, 40),
     ("sopdt-zero", [1.3, 6.0, 1.8, -2.1, 0.6], 0.1, 70.0, 5.0, (20.0, 24.0), 12.0, 30.0, 60),
 ]
+AUTO_RECORDS = 20
+AUTO_MIN = 0.75
 NAMES = {
     "fopdt": ["gain", "time_constant", "dead_time"],
     "sopdt": ["gain", "time_constant_1", "time_constant_2", "dead_time"],
@@ -33,6 +40,16 @@ NAMES = {
     "integrating": ["gain", "time_constant", "dead_time"],
     "sopdt-zero": ["gain", "time_constant_1", "time_constant_2", "zero_time_constant", "dead_time"],
 }
+
+
+def one_step(case):
+    """The noise-free one-step test of a CASES row: t, u (u0 then u1 from ts) and y (y0 at
+    rest)."""
+    name, p, h, dur, ts, (u0, u1), y0 = case[:7]
+    num, den = structure_tf(name, p)
+    t = np.round(np.arange(0.0, dur + h / 2, h), 10)
+    u = np.where(t >= ts, u1, u0)
+    return t, u, y0 + (u1 - u0) * step_response(num, den, p[-1], t, ts)
 
 
 def main():
@@ -45,9 +62,7 @@ def main():
         num, den = structure_tf(name, p)
         for noisy in (False, True):
             if not noisy:
-                t = np.round(np.arange(0.0, dur + h / 2, h), 10)
-                u = np.where(t >= ts, u1, u0)
-                y = y0 + (u1 - u0) * step_response(num, den, p[-1], t, ts)
+                t, u, y = one_step((name, p, h, dur, ts, (u0, u1), y0))
             else:
                 t = np.round(np.arange(0.0, ts + 2 * half * periods + h / 2, h), 10)
                 phase = np.floor((t - ts) / half).astype(int) % 2
@@ -83,11 +98,39 @@ def main():
                       f"{shown:>10} {sd_txt:>10}  {lim_txt}{'' if ok else '  FAIL'}")
                 if not ok:
                     failures.append(f"{name} noisy={noisy} {pname}: {got} vs {true}")
+    failures += structure_choice(binary, out)
     if failures:
         print("\n".join(["FAILURES:"] + failures))
         return 1
     print("all structures recovered within the limits")
     return 0
+
+
+def structure_choice(binary, out):
+    """Counts how often auto picks the true structure, plain AICc against the near-tie rule."""
+    rng = np.random.default_rng(20261202)
+    failures = []
+    print(f"\n{'true':12} {'plain AICc':>10} {'near-tie rule':>14}  (true structure picked, of "
+          f"{AUTO_RECORDS} one-step records with 2 % noise)")
+    for case in CASES:
+        name, scale = case[0], 0.02 * abs(case[1][0] * (case[5][1] - case[5][0]))
+        t, u, clean = one_step(case)
+        hits = {"0": 0, "2": 0}
+        for r in range(AUTO_RECORDS):
+            path = os.path.join(out, f"{name}_auto_{r}.csv")
+            write_csv(path, t, u, clean + rng.normal(0.0, scale, len(t)))
+            for width in hits:
+                status, doc, err = run_fit(binary, path, "--simpler-within", width)
+                if status != 0:
+                    failures.append(f"{name} auto record {r}: exit {status}: {err.strip()}")
+                    continue
+                hits[width] += doc["structure"] == name
+        ok = hits["2"] >= hits["0"] and hits["2"] >= AUTO_MIN * AUTO_RECORDS
+        print(f"{name:12} {hits['0']:10} {hits['2']:14}{'' if ok else '  FAIL'}")
+        if not ok:
+            failures.append(f"{name} auto: the rule picked it {hits['2']} times, plain AICc "
+                            f"{hits['0']} (of {AUTO_RECORDS})")
+    return failures
 
 
 if __name__ == "__main__":
