@@ -6,6 +6,7 @@
 #include <unistd.h>
 
 #include <cerrno>
+#include <cstdlib>
 #include <cstring>
 #include <vector>
 
@@ -36,13 +37,29 @@ mode_t CurrentUmask() {
 
 }  // namespace
 
-AtomicFile::AtomicFile(std::string path) : path_(std::move(path)) {
+AtomicFile::AtomicFile(std::string path) : path_(std::move(path)), target_(path_) {
   if (path_.empty() || path_.back() == '/') Fail(EISDIR);
+  struct stat st;
+  if (stat(path_.c_str(), &st) == 0) {
+    if (S_ISDIR(st.st_mode)) Fail(EISDIR);
+    if (!S_ISREG(st.st_mode)) {  // a device, FIFO or socket: written on Commit(), never replaced
+      stream_ = true;
+      return;
+    }
+    // A symbolic link to a regular file: the file it names is replaced, the link stays.
+    struct stat link;
+    if (lstat(path_.c_str(), &link) == 0 && S_ISLNK(link.st_mode)) {
+      char* resolved = realpath(path_.c_str(), nullptr);
+      if (resolved == nullptr) Fail(errno);
+      target_.assign(resolved);
+      std::free(resolved);
+    }
+  }
   // ".<name>.tmp-XXXXXX" in the target's folder.
-  const size_t slash = path_.find_last_of('/');
-  std::string pattern = slash == std::string::npos ? std::string() : path_.substr(0, slash + 1);
+  const size_t slash = target_.find_last_of('/');
+  std::string pattern = slash == std::string::npos ? std::string() : target_.substr(0, slash + 1);
   pattern.push_back('.');
-  pattern.append(BaseOf(path_));
+  pattern.append(BaseOf(target_));
   pattern.append(".tmp-XXXXXX");
   std::vector<char> name(pattern.begin(), pattern.end());
   name.push_back('\0');
@@ -91,7 +108,11 @@ void AtomicFile::Flush() {
 }
 
 void AtomicFile::Write(std::string_view bytes) {
-  if (committed_ || fd_ < 0) Fail(EBADF);
+  if (committed_ || (fd_ < 0 && !stream_)) Fail(EBADF);
+  if (stream_) {  // held until Commit(), so a failed command writes nothing
+    buffer_.append(bytes);
+    return;
+  }
   if (buffer_.size() + bytes.size() > kBufferSize) {
     Flush();
     if (bytes.size() >= kBufferSize) {
@@ -103,17 +124,27 @@ void AtomicFile::Write(std::string_view bytes) {
 }
 
 void AtomicFile::Commit() {
-  if (committed_ || fd_ < 0) Fail(EBADF);
+  if (committed_ || (fd_ < 0 && !stream_)) Fail(EBADF);
+  if (stream_) {
+    fd_ = open(path_.c_str(), O_WRONLY | O_CLOEXEC);
+    if (fd_ < 0) Fail(errno);
+    Flush();
+    const int fd = fd_;
+    fd_ = -1;
+    if (close(fd) != 0) Fail(errno);
+    committed_ = true;
+    return;
+  }
   Flush();
   if (fsync(fd_) != 0) Fail(errno);
   const int fd = fd_;
   fd_ = -1;
   if (close(fd) != 0) Fail(errno);
-  if (std::rename(temp_path_.c_str(), path_.c_str()) != 0) Fail(errno);
+  if (std::rename(temp_path_.c_str(), target_.c_str()) != 0) Fail(errno);
   committed_ = true;
   temp_path_.clear();
   // Make the rename itself durable; a failure here cannot undo the rename, so it is ignored.
-  const int dir = open(FolderOf(path_).c_str(), O_RDONLY | O_DIRECTORY);
+  const int dir = open(FolderOf(target_).c_str(), O_RDONLY | O_DIRECTORY);
   if (dir >= 0) {
     fsync(dir);
     close(dir);

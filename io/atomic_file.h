@@ -12,6 +12,11 @@
 // writable is a usage error rather than bad input data.
 //
 // The new file gets mode 0666 minus the process umask, like a file created by open(2).
+//
+// Targets that are not regular files are never replaced: a symbolic link to a regular file
+// keeps the link and replaces the file it names; a device, FIFO or socket (`-o /dev/null`,
+// `-o /dev/stdout`) is opened and written only on Commit(), from memory, so a command that
+// fails before Commit() writes nothing there either (no fsync, no rename). A folder is refused.
 #ifndef LOOPWRIGHT_IO_ATOMIC_FILE_H_
 #define LOOPWRIGHT_IO_ATOMIC_FILE_H_
 
@@ -45,10 +50,12 @@ class AtomicFile {
   [[noreturn]] void Fail(int error_number);
   void Discard() noexcept;
 
-  std::string path_;
+  std::string path_;    // as given (messages)
+  std::string target_;  // the regular file renamed onto: path_, or what its symlink names
   std::string temp_path_;
   std::string buffer_;
   int fd_ = -1;
+  bool stream_ = false;  // the target is a device, FIFO or socket
   bool committed_ = false;
 };
 

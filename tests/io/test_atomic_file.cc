@@ -1,5 +1,6 @@
 #include "io/atomic_file.h"
 
+#include <fcntl.h>
 #include <sys/stat.h>
 #include <unistd.h>
 
@@ -105,4 +106,44 @@ TEST_CASE("Commit twice is refused") {
   file.Commit();
   CHECK_THROWS_AS(file.Commit(), lw::UsageError);
   CHECK(ReadText(dir.File("once.txt")) == "a");
+}
+
+TEST_CASE(
+    "A FIFO target is written on Commit and never replaced (as -o /dev/null or /dev/stdout)") {
+  TempDir dir;
+  const std::string fifo = dir.File("pipe");
+  REQUIRE(mkfifo(fifo.c_str(), 0600) == 0);
+  {
+    lw::AtomicFile dropped(fifo);  // not committed: nothing opened, nothing written
+    dropped.Write("lost");
+  }
+  // The read end is opened first (non-blocking), so the writer's open succeeds at once and the
+  // bytes wait in the pipe; with a replaced FIFO nothing arrives and the test fails, not hangs.
+  const int rfd = open(fifo.c_str(), O_RDONLY | O_NONBLOCK);
+  REQUIRE(rfd >= 0);
+  lw::AtomicFile file(fifo);
+  file.Write("through ");
+  file.Write("the pipe\n");
+  file.Commit();
+  char buf[64];
+  const ssize_t n = read(rfd, buf, sizeof buf);
+  close(rfd);
+  const std::string got = n > 0 ? std::string(buf, static_cast<size_t>(n)) : std::string();
+  CHECK(got == "through the pipe\n");
+  struct stat st;
+  REQUIRE(lstat(fifo.c_str(), &st) == 0);
+  CHECK(S_ISFIFO(st.st_mode));
+  CHECK(dir.Entries() == std::vector<std::string>{"pipe"});
+}
+
+TEST_CASE("A symbolic link target keeps the link; the file it names is replaced") {
+  TempDir dir;
+  WriteText(dir.File("real.txt"), "old");
+  REQUIRE(symlink("real.txt", dir.File("link.txt").c_str()) == 0);
+  lw::WriteFileAtomically(dir.File("link.txt"), "new");
+  struct stat st;
+  REQUIRE(lstat(dir.File("link.txt").c_str(), &st) == 0);
+  CHECK(S_ISLNK(st.st_mode));
+  CHECK(ReadText(dir.File("real.txt")) == "new");
+  CHECK(dir.Entries() == std::vector<std::string>{"link.txt", "real.txt"});
 }
