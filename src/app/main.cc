@@ -9,6 +9,7 @@
 #include <vector>
 
 #include <CLI/CLI.hpp>
+#include <glog/logging.h>
 
 #include "app/command.h"
 #include "lti/error.h"
@@ -30,6 +31,10 @@ std::string JoinCommandLine(int argc, char** argv) {
 
 int main(int argc, char** argv) {
   using lw::app::CommandTable;
+  // Ceres reports through glog (e.g. "Covariance matrix is near rank deficient" on stderr); the
+  // identify library turns every such case into its own result (ceres_solve.h), and only this
+  // program talks to the user, so glog stays silent short of a fatal error.
+  FLAGS_minloglevel = google::GLOG_FATAL;
   CLI::App app{
       "loopwright: identify a rig's plant from a step test, choose a controller gain band from\n"
       "the root locus, predict the closed loop and check it against fresh measurements."};
