@@ -222,8 +222,13 @@ class PredictCommand : public Command {
       if (s.imag() >= 0.0) out << "  " << PoleText(s);
     }
     out << (p.stable ? "" : "  " + Bad(ctx, "UNSTABLE")) << "\n";
-    out << "  dominant pair: zeta " << FormatNumber(p.dominant_shape.zeta, 3) << ", wn "
-        << FormatQuantity(p.dominant_shape.wn, "rad/s", 4) << "\n\n";
+    if (p.dominant.imag() > 0.0) {
+      out << "  dominant pair: zeta " << FormatNumber(p.dominant_shape.zeta, 3) << ", wn "
+          << FormatQuantity(p.dominant_shape.wn, "rad/s", 4) << "\n\n";
+    } else {  // a real pole: no pair; the region's zeta and wn read it as zeta 1, wn = |s|
+      out << "  dominant pole: real, s = " << FormatNumber(p.dominant.real(), 4)
+          << " (as zeta 1, wn " << FormatQuantity(p.dominant_shape.wn, "rad/s", 4) << ")\n\n";
+    }
 
     SummaryTable t({"quantity", "predicted", "limit", "verdict"});
     t.AddRow({"closed loop", p.stable ? "stable" : "unstable", "", OkFail(p.stable)});

@@ -210,6 +210,11 @@ def case_no_peak():
     check(zeta > 1, f"K = 0.05 is overdamped (zeta {zeta:.4f})")
     code, out, err = run("predict", "--plant", LAG2, "--gain", "0.05", "--duration", "200")
     check(code == 0, f"predict of the overdamped loop exits 0 ({err!r})")
+    # Two real poles, roots of 24 s^2 + 11 s + 1 + 1.5 K: the dominant one is real, not a pair.
+    slow = (-11 + math.sqrt(121 - 96 * (1 + 1.5 * 0.05))) / 48
+    m = re.search(r"^\s+dominant pole: real, s = (\S+) \(as zeta 1, wn ", out, re.M)
+    check(m is not None and abs(float(m.group(1)) / slow - 1) < 1e-3,
+          f"the dominant pole is named real at s = {slow:.4f} ({out!r})")
     row = next((l for l in out.splitlines() if l.strip().startswith("peak time ")), "")
     check(re.fullmatch(r"\s+peak time\s+no peak\s*", row) is not None,
           f"peak time row says 'no peak', no number ({row!r})")
