@@ -1,6 +1,9 @@
 #include "io/rig_link.h"
 
+#include <fcntl.h>
 #include <linux/futex.h>
+#include <pthread.h>
+#include <signal.h>
 #include <sys/epoll.h>
 #include <sys/eventfd.h>
 #include <sys/syscall.h>
@@ -105,12 +108,58 @@ SerialFlowControl ParseSerialFlowControl(std::string_view text) {
 // waiting there. That caller sleeps on a futex word (`published`) outside the queue lock, so a
 // handed-over line costs the two futex calls of one wait and one wake (a condition variable
 // re-takes its mutex as if contended on waking, and its unlock then makes a third).
+//
+// A serial device opened by path comes with a second, blocking descriptor for reading
+// (rig_transport.h, serial_link.cc); then the reader blocks in read(2) alone, one system call per
+// line instead of two (epoll_wait, then read). Such a read is stopped without losing the request:
+//   - Stop() sets `stop_signalled`, then, under `reader_mutex`, replaces the blocking descriptor
+//     with dup3(2) by the read end of a pipe whose write end is closed (`ended_fd`), so every
+//     read(2) that starts after that returns 0 at once; the reader then finds the flag set.
+//   - A read(2) already blocked on the device is not woken by that (it holds its own reference to
+//     the device), so Stop() also sends the wake signal (SIGRTMIN + 7) to the reader thread with
+//     pthread_kill when `in_read` says the reader is in, or about to enter, read(2). The signal's
+//     handler does nothing and is installed without SA_RESTART, so that read(2) returns EINTR (the
+//     reader thread unblocks the signal first, in case its creator had it blocked).
+//   - The two sides are ordered as in Dekker's algorithm: the reader stores `in_read` and then
+//     issues a full fence before read(2) looks its descriptor up; Stop() replaces the descriptor
+//     and then issues a full fence before it loads `in_read`. So either Stop() sees `in_read`
+//     and signals (a signal that lands before read(2) blocks still makes it return EINTR, since
+//     the kernel checks for a pending signal before it sleeps, and one that lands just before the
+//     call leaves read(2) on the replaced descriptor), or the reader's read(2) finds the replaced
+//     descriptor. A request is never lost in between.
+//   - The reader closes the descriptor under `reader_mutex` when it stops, and Stop() touches it
+//     only while it is open, so dup3 never lands on a descriptor number reused by someone else.
+// The signal is sent only at a stop, and only while the reader is at its read(2), so a handler's
+// own system calls are not interrupted but for the short span between read(2) returning and
+// `in_read` being cleared (the reader then stops at once; glibc's locks retry on EINTR and
+// WriteAll does too). The wake signal is used only when its disposition is the default (nobody
+// else in the process uses it); otherwise, and for sockets and adopted descriptors, the reader
+// waits in epoll_wait as above.
 
 namespace {
 
 constexpr std::size_t kReadBytes = 64 * 1024;
 
 std::string ErrnoText(int error) { return std::strerror(error); }
+
+extern "C" void OnWakeSignal(int) {}  // only makes a blocked read(2) return EINTR
+
+// The real-time signal that stops a blocking read, installed once; -1 when something else in the
+// process already handles it.
+int WakeSignal() {
+  static const int signal_number = [] {
+    const int number = SIGRTMIN + 7;
+    struct sigaction old {};
+    if (number > SIGRTMAX || ::sigaction(number, nullptr, &old) != 0) return -1;
+    if ((old.sa_flags & SA_SIGINFO) != 0 || old.sa_handler != SIG_DFL) return -1;
+    struct sigaction wake {};
+    wake.sa_handler = OnWakeSignal;
+    sigemptyset(&wake.sa_mask);
+    wake.sa_flags = 0;  // no SA_RESTART: the read returns EINTR
+    return ::sigaction(number, &wake, nullptr) == 0 ? number : -1;
+  }();
+  return signal_number;
+}
 
 static_assert(sizeof(std::atomic<std::uint32_t>) == sizeof(std::uint32_t) &&
               std::atomic<std::uint32_t>::is_always_lock_free);
@@ -155,10 +204,27 @@ struct RigLink::State {
       throw LinkError("cannot read from " + description + ": " + reason);
     }
     buffer.resize(kReadBytes);
+    SetUpBlockingReader(transport->ReleaseBlockingReader());
   }
   ~State() {
     ::close(epoll_fd);
     ::close(stop_fd);
+    if (blocking_fd >= 0) ::close(blocking_fd);
+    if (ended_fd >= 0) ::close(ended_fd);
+  }
+
+  // Keeps `fd` (or closes it) when a blocking read can be stopped here: a wake signal and an
+  // always-ended pipe for Stop() to put in its place.
+  void SetUpBlockingReader(int fd) {
+    if (fd < 0) return;
+    int ends[2];
+    if (WakeSignal() < 0 || ::pipe2(ends, O_CLOEXEC) != 0) {
+      ::close(fd);
+      return;
+    }
+    ::close(ends[1]);
+    ended_fd = ends[0];
+    blocking_fd = fd;
   }
 
   std::unique_ptr<RigTransport> transport;
@@ -167,6 +233,14 @@ struct RigLink::State {
   int stop_fd = -1;
   std::atomic<bool> stop_signalled{false};
   int epoll_fd = -1;  // the descriptor and stop_fd, level-triggered
+
+  // The blocking reader (see above), when there is one; under reader_mutex once started.
+  std::mutex reader_mutex;
+  int blocking_fd = -1;  // read by the reader thread alone; -1 once it closed it
+  int ended_fd = -1;     // a pipe's read end whose write end is closed: read(2) gives 0
+  pthread_t reader_thread{};
+  bool reader_running = false;
+  std::atomic<bool> in_read{false};
 
   std::mutex thread_mutex;  // Start and Close from outside the reader thread
   std::thread thread;
@@ -212,6 +286,13 @@ struct RigLink::State {
     if (stop_signalled.exchange(true)) return;
     const std::uint64_t one = 1;
     [[maybe_unused]] ssize_t n = ::write(stop_fd, &one, sizeof one);
+    std::lock_guard<std::mutex> lock(reader_mutex);
+    if (blocking_fd < 0) return;
+    ::dup3(ended_fd, blocking_fd, O_CLOEXEC);
+    std::atomic_thread_fence(std::memory_order_seq_cst);
+    if (reader_running && !OnIoThread() && in_read.load()) {
+      ::pthread_kill(reader_thread, WakeSignal());
+    }
   }
 
   void SetFailure(const std::string& problem) {
@@ -282,8 +363,60 @@ struct RigLink::State {
     Publish();  // after the counts, so a queued event is never ahead of them
   }
 
+  // Blocks in read(2) on blocking_fd; returns why reading ended (empty after a stop).
+  std::string BlockingReadLoop() {
+    {
+      std::lock_guard<std::mutex> lock(reader_mutex);
+      reader_thread = ::pthread_self();
+      reader_running = true;
+    }
+    sigset_t wake;
+    sigemptyset(&wake);
+    sigaddset(&wake, WakeSignal());
+    ::pthread_sigmask(SIG_UNBLOCK, &wake, nullptr);
+    std::string message;
+    while (!stop_signalled) {
+      in_read.store(true);
+      std::atomic_thread_fence(std::memory_order_seq_cst);
+      const long n = static_cast<long>(::read(blocking_fd, buffer.data(), buffer.size()));
+      const int error = errno;
+      in_read.store(false);
+      if (stop_signalled) break;  // Close(), or a failure that says why
+      if (n > 0) {
+        Ingest(static_cast<std::size_t>(n));
+        continue;
+      }
+      if (n < 0 && error == EINTR) continue;  // another signal
+      message = n == 0 || error == EIO ? "the rig on " + description + " closed the link"
+                                       : "reading " + description + " failed: " + ErrnoText(error);
+      break;
+    }
+    std::lock_guard<std::mutex> lock(reader_mutex);
+    ::close(blocking_fd);
+    blocking_fd = -1;
+    reader_running = false;
+    return message;
+  }
+
   void ReadLoop() {
     reader = this;
+    std::string message;
+    if (blocking_fd >= 0) {
+      message = BlockingReadLoop();
+    } else {
+      message = EpollReadLoop();
+    }
+    const std::string problem = Failure();
+    if (!problem.empty()) {
+      message = problem;
+    } else if (closing) {
+      message.clear();
+    }
+    EndReading(message);
+  }
+
+  // Waits in epoll_wait, then reads; returns why reading ended (empty after a stop).
+  std::string EpollReadLoop() {
     std::string message;
     for (;;) {
       epoll_event ready[2];
@@ -310,13 +443,7 @@ struct RigLink::State {
       }
       break;
     }
-    const std::string problem = Failure();
-    if (!problem.empty()) {
-      message = problem;
-    } else if (closing) {
-      message.clear();
-    }
-    EndReading(message);
+    return message;
   }
 
   // Called with write_mutex held: writes the lines handlers sent, in order.

@@ -5,6 +5,11 @@
 // batching delay: a line costs one wakeup of that thread) and the resulting events reach the
 // caller either through a handler or through a thread-safe queue.
 //
+// A serial link reads with a blocking read(2) on a second descriptor of the device, one system
+// call per line; to stop that read it installs, the first time, a handler that does nothing for
+// the real-time signal SIGRTMIN + 7 and sends that signal to its own reader thread only. When
+// something else in the process already handles that signal, it waits with epoll_wait instead.
+//
 //   auto link = OpenRigLink(ParseRigPort("/dev/ttyUSB0"), RigLinkOptions{});
 //   link->StartQueue();
 //   link->Send(RigMessage::Hello(0));            // SEQ is filled in by the link

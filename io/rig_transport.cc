@@ -51,9 +51,17 @@ int RigTransport::WriteAll(const char* data, std::size_t size, int stop_fd) {
 }
 
 void RigTransport::Close() {
+  if (blocking_reader_ >= 0) ::close(std::exchange(blocking_reader_, -1));
   if (fd_ < 0) return;
   ::close(fd_);
   fd_ = -1;
 }
+
+void RigTransport::SetBlockingReader(int fd) {
+  if (blocking_reader_ >= 0) ::close(blocking_reader_);
+  blocking_reader_ = fd;
+}
+
+int RigTransport::ReleaseBlockingReader() { return std::exchange(blocking_reader_, -1); }
 
 }  // namespace lw

@@ -3,6 +3,8 @@
 // Boost 1.74's Asio uses std::exchange without including <utility> in C++20 mode.
 #include <utility>
 
+#include <fcntl.h>
+#include <termios.h>
 #include <unistd.h>
 
 #include <algorithm>
@@ -21,6 +23,30 @@ namespace {
 constexpr std::array<unsigned, 21> kStandardBauds = {
     1200,   2400,   4800,    9600,    19200,   38400,   57600,   115200,  230400,  460800, 500000,
     576000, 921600, 1000000, 1152000, 1500000, 2000000, 2500000, 3000000, 3500000, 4000000};
+
+// The reader's own descriptor of the device, in blocking mode (rig_transport.h), or -1: then the
+// link waits with epoll_wait on `fd` instead, as it does for every other transport. A blocking
+// read(2) in raw mode returns once MIN bytes are there, so MIN is set to 1 and TIME to 0 (what
+// cfmakeraw sets): a read returns as soon as one byte arrived, and never 0 for lack of data.
+int OpenBlockingReader(const std::string& device, int fd) {
+  termios settings{};
+  if (::tcgetattr(fd, &settings) != 0) return -1;
+  if (settings.c_cc[VMIN] != 1 || settings.c_cc[VTIME] != 0) {
+    settings.c_cc[VMIN] = 1;
+    settings.c_cc[VTIME] = 0;
+    if (::tcsetattr(fd, TCSANOW, &settings) != 0) return -1;
+  }
+  // Opened non-blocking so that a modem line without carrier does not hold the open; then made
+  // blocking, which changes only this descriptor's own open file description.
+  const int reader = ::open(device.c_str(), O_RDONLY | O_NOCTTY | O_CLOEXEC | O_NONBLOCK);
+  if (reader < 0) return -1;
+  const int flags = ::fcntl(reader, F_GETFL);
+  if (flags < 0 || ::fcntl(reader, F_SETFL, flags & ~O_NONBLOCK) != 0 || !::isatty(reader)) {
+    ::close(reader);
+    return -1;
+  }
+  return reader;
+}
 
 }  // namespace
 
@@ -56,7 +82,9 @@ std::unique_ptr<RigTransport> OpenSerialTransport(const std::string& device, uns
   // The link reads and writes the descriptor itself (rig_transport.h); Asio's copy closes here.
   const int fd = ::dup(port.native_handle());
   if (fd < 0) throw LinkError("cannot open " + device + ": " + std::strerror(errno));
-  return std::make_unique<RigTransport>(fd, device);
+  auto transport = std::make_unique<RigTransport>(fd, device);
+  transport->SetBlockingReader(OpenBlockingReader(device, fd));
+  return transport;
 }
 
 }  // namespace lw

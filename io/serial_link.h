@@ -1,7 +1,9 @@
 // Serial transport for a RigLink: boost::asio::serial_port in raw mode, 8 data bits, no parity,
 // one stop bit (8N1), at a standard baud rate, with no or hardware (RTS/CTS) flow control. It
 // also opens a pseudo-terminal's slave path (what `loopwright emulate --pty` prints), where the
-// rate is accepted and has no effect.
+// rate is accepted and has no effect. Raw mode with MIN 1 and TIME 0 (a read returns as soon as
+// a byte is there). The device is opened a second time, blocking, for the link's reader thread
+// (rig_transport.h); when that fails the link reads the first descriptor after epoll_wait.
 #ifndef LOOPWRIGHT_IO_SERIAL_LINK_H_
 #define LOOPWRIGHT_IO_SERIAL_LINK_H_
 

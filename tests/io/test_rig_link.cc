@@ -15,6 +15,7 @@
 #include <condition_variable>
 #include <mutex>
 #include <string>
+#include <thread>
 #include <vector>
 
 #include "lti/error.h"
@@ -110,6 +111,102 @@ TEST_CASE("rig link over a pseudo-terminal: the serial transport opens the slave
   pair.rig.reset();
   CHECK_THROWS_WITH_AS(pair.host->NextEvent(milliseconds(2000)),
                        ("the rig on " + slave + " closed the link").c_str(), LinkError);
+}
+
+// A pseudo-terminal's master end (the rig) and its slave path (for OpenRigLink).
+int OpenPtyMaster(std::string& slave) {
+  int master = posix_openpt(O_RDWR | O_NOCTTY);
+  REQUIRE(master >= 0);
+  REQUIRE(grantpt(master) == 0);
+  REQUIRE(unlockpt(master) == 0);
+  slave = ptsname(master);
+  return master;
+}
+
+TEST_CASE("pty link: Close() ends a reader blocked in read(2), whenever it comes") {
+  // The serial transport reads the slave with a blocking read(2) that Close() has to interrupt;
+  // a stop request lost in a race would hang here. Close() comes at once, before the reader can
+  // have reached read(2), or after a pause, or while lines arrive, in both modes.
+  const std::string line = EncodeRigLine(RigMessage::Sample(0, {1000, 60.0, 42.125, 21.5}));
+  for (int i = 0; i < 240; ++i) {
+    std::string slave;
+    const int master = OpenPtyMaster(slave);
+    std::unique_ptr<RigLink> link = OpenRigLink(ParseRigPort(slave), RigLinkOptions{});
+    std::atomic<int> events{0};
+    std::atomic<int> closes{0};
+    std::string close_message = "(not closed)";
+    if (i % 2 == 0) {
+      link->StartQueue();
+    } else {
+      link->Start([&](const RigLineEvent&) { ++events; },
+                  [&](const std::string& message) {
+                    close_message = message;
+                    ++closes;
+                  });
+    }
+    if (i % 3 == 1) std::this_thread::sleep_for(std::chrono::microseconds(50 * (i % 11)));
+    if (i % 3 == 2) {
+      for (int k = 0; k < 1 + i % 5; ++k) {
+        REQUIRE(write(master, line.data(), line.size()) == static_cast<ssize_t>(line.size()));
+      }
+      std::this_thread::sleep_for(std::chrono::microseconds(20 * (i % 7)));
+    }
+    link->Close();
+    CHECK(link->closed());
+    if (i % 2 == 0) {
+      // What was read before Close() comes first (at most the lines written), then the end.
+      std::string end;
+      for (int k = 0; k <= 5 && end.empty(); ++k) {
+        try {
+          link->NextEvent(milliseconds(0));
+        } catch (const LinkError& e) {
+          end = e.what();
+        }
+      }
+      CHECK(end == "the link to " + slave + " was closed");
+    } else {
+      CHECK(closes == 1);
+      CHECK(close_message.empty());
+    }
+    link.reset();
+    close(master);
+  }
+}
+
+TEST_CASE("pty link: a handler that calls Close() stops its own blocking reader") {
+  std::string slave;
+  const int master = OpenPtyMaster(slave);
+  std::unique_ptr<RigLink> link = OpenRigLink(ParseRigPort(slave), RigLinkOptions{});
+  std::mutex mutex;
+  std::condition_variable done;
+  int events = 0;
+  std::string close_message = "(not closed)";
+  link->Start(
+      [&](const RigLineEvent&) {
+        {
+          std::lock_guard<std::mutex> lock(mutex);
+          ++events;
+        }
+        link->Close();
+      },
+      [&](const std::string& message) {
+        std::lock_guard<std::mutex> lock(mutex);
+        close_message = message;
+        done.notify_all();
+      });
+  const std::string lines = EncodeRigLine(RigMessage::Bare(RigMessageKind::kBeat, 0)) +
+                            EncodeRigLine(RigMessage::Bare(RigMessageKind::kBeat, 1));
+  REQUIRE(write(master, lines.data(), lines.size()) == static_cast<ssize_t>(lines.size()));
+  {
+    std::unique_lock<std::mutex> lock(mutex);
+    REQUIRE(done.wait_for(lock, std::chrono::seconds(5),
+                          [&] { return close_message != "(not closed)"; }));
+    CHECK(close_message.empty());
+    CHECK(events >= 1);
+  }
+  CHECK(link->closed());
+  link.reset();  // joins the reader
+  close(master);
 }
 
 TEST_CASE("rig link over loopback TCP") {
