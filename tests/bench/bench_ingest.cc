@@ -6,6 +6,10 @@
 // into the pty master or the accepted socket as fast as it can, or one per millisecond for the
 // 1 kHz case. The parent is the host: a RigLink in handler mode (as the rig session uses it)
 // or queue mode (NextEvent on the main thread, so a thread handoff per line is counted too).
+// OpenRigLink on the pty's slave path gives the serial transport, whose reader blocks in read(2)
+// alone; the "adopted" row is the same handler over the slave opened here and handed to
+// AdoptRigLinkDescriptor, whose reader waits in epoll_wait and then reads (two system calls a
+// line, as every link did before): the cost of that wait, measured beside it.
 // CPU is the parent's user + system time from getrusage (the child's is not counted). The
 // reference beside each transport is the same bytes read with plain blocking read(2) and
 // nothing else. Every figure is the median over RUNS runs, the runs of all rows interleaved so a
@@ -161,7 +165,7 @@ struct Run {
   std::uint64_t valid = 0, lost = 0;
 };
 
-enum class Mode { kHandler, kQueue, kRaw };
+enum class Mode { kHandler, kAdopted, kQueue, kRaw };
 
 Run Once(bool tcp, Mode mode, const std::string& text, std::size_t lines, long period_us) {
   Ends ends;
@@ -183,8 +187,11 @@ Run Once(bool tcp, Mode mode, const std::string& text, std::size_t lines, long p
     ends.rig_fd = accept(listener, nullptr, nullptr);
     close(listener);
   } else {
-    ends = PtyEnds(mode == Mode::kRaw);
-    if (mode != Mode::kRaw) {
+    ends = PtyEnds(mode == Mode::kRaw || mode == Mode::kAdopted);
+    if (mode == Mode::kAdopted) {
+      link = lw::AdoptRigLinkDescriptor(ends.host_fd, "pty slave");
+      ends.host_fd = -1;  // the link owns it
+    } else if (mode != Mode::kRaw) {
       link = lw::OpenRigLink(lw::ParseRigPort(ends.host_port), lw::RigLinkOptions{});
     }
   }
@@ -192,7 +199,8 @@ Run Once(bool tcp, Mode mode, const std::string& text, std::size_t lines, long p
   std::condition_variable ended;
   bool closed = false;
   std::atomic<std::uint64_t> handled{0};
-  if (mode == Mode::kHandler) {
+  const bool handler = mode == Mode::kHandler || mode == Mode::kAdopted;
+  if (handler) {
     link->Start(
         [&](const lw::RigLineEvent& e) {
           if (e.kind == lw::RigLineEvent::Kind::kMessage && handled.fetch_add(1) + 1 == lines) {
@@ -220,7 +228,7 @@ Run Once(bool tcp, Mode mode, const std::string& text, std::size_t lines, long p
   // Everything should arrive well within this; a lost line shows as a timeout, not a hang.
   const auto deadline = t0 + std::chrono::seconds(20) +
                         std::chrono::microseconds(static_cast<long>(lines) * (period_us + 10));
-  if (mode == Mode::kHandler) {
+  if (handler) {
     std::unique_lock<std::mutex> lock(mutex);
     ended.wait_until(lock, deadline, [&] { return closed || handled.load() == lines; });
     run.valid = handled.load();
@@ -265,7 +273,9 @@ double Median(std::vector<double> v) {
 }
 
 const char* ModeName(Mode mode) {
-  return mode == Mode::kRaw ? "raw read" : mode == Mode::kHandler ? "handler" : "queue";
+  if (mode == Mode::kRaw) return "raw read";
+  if (mode == Mode::kAdopted) return "adopted";
+  return mode == Mode::kHandler ? "handler" : "queue";
 }
 
 // Median wall and CPU seconds of each (link, mode) row over `runs` interleaved runs.
@@ -281,7 +291,8 @@ struct Row {
 std::vector<Row> Measure(const std::string& text, std::size_t lines, long period_us, int runs) {
   std::vector<Row> rows;
   for (bool tcp : {false, true}) {
-    for (Mode mode : {Mode::kRaw, Mode::kHandler, Mode::kQueue}) {
+    for (Mode mode : {Mode::kRaw, Mode::kHandler, Mode::kAdopted, Mode::kQueue}) {
+      if (tcp && mode == Mode::kAdopted) continue;  // a TCP link waits in epoll_wait either way
       Row row;
       row.tcp = tcp;
       row.mode = mode;
