@@ -3,13 +3,11 @@
 
 #include <algorithm>
 #include <cmath>
-#include <exception>
 #include <functional>
-#include <mutex>
 #include <random>
 #include <string>
-#include <thread>
 
+#include "design/parallel_for.h"
 #include "lti/error.h"
 #include "lti/number_text.h"
 #include "lti/simulate.h"
@@ -80,26 +78,6 @@ class Gauss {
   double spare_ = 0.0;
   bool has_spare_ = false;
 };
-
-// Runs job(i) for i in [0, n) on `threads` threads (strided), rethrowing the first exception.
-void ParallelFor(size_t n, int threads, const std::function<void(size_t)>& job) {
-  std::exception_ptr failure;
-  std::mutex guard;
-  auto work = [&](size_t first, size_t stride) {
-    try {
-      for (size_t i = first; i < n; i += stride) job(i);
-    } catch (...) {
-      std::lock_guard<std::mutex> lock(guard);
-      if (!failure) failure = std::current_exception();
-    }
-  };
-  const size_t count = std::max<size_t>(1, std::min<size_t>(static_cast<size_t>(threads), n));
-  std::vector<std::thread> pool;
-  for (size_t k = 1; k < count; ++k) pool.emplace_back(work, k, count);
-  work(0, count);
-  for (auto& th : pool) th.join();
-  if (failure) std::rethrow_exception(failure);
-}
 
 bool AllFinite(std::span<const double> v) {
   return std::all_of(v.begin(), v.end(), [](double x) { return std::isfinite(x); });
@@ -660,7 +638,7 @@ ClosedLoopCheck CheckClosedLoop(const TransferFunction& plant,
   const size_t kept = (n + stride - 1) / stride + ((n - 1) % stride ? 1 : 0);
   std::vector<std::vector<MetricValues>> draw_values(draws.size());
   std::vector<std::vector<double>> draw_y(draws.size()), draw_u(draws.size());
-  ParallelFor(draws.size(), options.threads, [&](size_t i) {
+  ParallelFor(draws.size(), options.threads, [&](size_t, size_t i) {
     Trace tr = PredictTrace(s, draws[i]);
     draw_values[i] = AllStepValues(s, tr.y, has_u ? std::span<const double>(tr.u) : u_rec, false);
     draw_y[i].reserve(kept);
@@ -680,7 +658,7 @@ ClosedLoopCheck CheckClosedLoop(const TransferFunction& plant,
   // Noise replicates of the nominal prediction, each with its own seeded generator.
   const int reps = options.noise_replicates;
   std::vector<std::vector<MetricValues>> rep_values(static_cast<size_t>(reps));
-  ParallelFor(rep_values.size(), options.threads, [&](size_t j) {
+  ParallelFor(rep_values.size(), options.threads, [&](size_t, size_t j) {
     Gauss g(options.seed * 0x9E3779B97F4A7C15ULL + j + 1);
     std::vector<double> y = nominal.y, u = has_u ? nominal.u : std::vector<double>();
     for (double& v : y) v += c.sd_output * g();

@@ -5,10 +5,10 @@
 #include <functional>
 #include <limits>
 #include <string>
-#include <thread>
 
 #include "design/boundary_crossings.h"
 #include "design/loop_polynomials.h"
+#include "design/parallel_for.h"
 #include "lti/error.h"
 #include "lti/simulate.h"
 
@@ -251,16 +251,11 @@ ResponseBand FindResponseBand(const TransferFunction& plant, const Controller& c
   }
   // The grid's gains, then the edges, are independent: `threads` threads share each list (the
   // same results for any count, each task being a pure function of its inputs).
-  const size_t threads = static_cast<size_t>(options.threads);
-  std::vector<Judge> judges(threads, Judge{plant, controller, specs, options, loop});
+  std::vector<Judge> judges(ParallelWorkers(g.size(), options.threads),
+                            Judge{plant, controller, specs, options, loop});
   const auto shared = [&](size_t count, const std::function<void(Judge&, size_t)>& job) {
-    auto work = [&](size_t first) {
-      for (size_t i = first; i < count; i += threads) job(judges[first], i);
-    };
-    std::vector<std::thread> pool;
-    for (size_t t = 1; t < std::min(threads, count); ++t) pool.emplace_back(work, t);
-    work(0);
-    for (auto& th : pool) th.join();
+    ParallelFor(count, static_cast<int>(judges.size()),
+                [&](size_t worker, size_t i) { job(judges[worker], i); });
   };
   shared(g.size(), [&](Judge& judge, size_t i) { v[i] = judge(g[i]); });
   // Each range's start and end edge.

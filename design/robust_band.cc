@@ -3,9 +3,9 @@
 #include <algorithm>
 #include <cmath>
 #include <string>
-#include <thread>
 
 #include "design/gain_band.h"
+#include "design/parallel_for.h"
 #include "lti/error.h"
 
 namespace lw {
@@ -33,17 +33,10 @@ RobustBand FindRobustBand(const std::vector<TransferFunction>& draws, const Cont
                      std::to_string(std::max(options.min_draws, 1)) + " are needed");
   }
   std::vector<GainSet> bands(draws.size());
-  auto work = [&](size_t first, size_t step) {
-    for (size_t i = first; i < draws.size(); i += step) {
-      LoopPolynomials loop = LoopPolynomials::ForGain(draws[i], controller, options.pade_order);
-      bands[i] = FindLocusBand(loop, region).gains();
-    }
-  };
-  const size_t threads = std::min<size_t>(static_cast<size_t>(options.threads), draws.size());
-  std::vector<std::thread> pool;
-  for (size_t t = 1; t < threads; ++t) pool.emplace_back(work, t, threads);
-  work(0, threads);
-  for (auto& th : pool) th.join();
+  ParallelFor(draws.size(), options.threads, [&](size_t, size_t i) {
+    LoopPolynomials loop = LoopPolynomials::ForGain(draws[i], controller, options.pade_order);
+    bands[i] = FindLocusBand(loop, region).gains();
+  });
 
   RobustBand out;
   out.draws = static_cast<int>(draws.size());
