@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "lti/error.h"
+#include "tests/io/bitwise_crc.h"
 
 namespace lw {
 namespace {
@@ -42,20 +43,7 @@ TEST_CASE("CRC-16/CCITT-FALSE matches its published check value") {
   CHECK(Crc16CcittFalse("A") == 0xB915);
 }
 
-// The bitwise definition, as io/rig_protocol.md gives it to firmware authors: one bit at a time,
-// straight from the published parameters (polynomial 0x1021, initial value 0xFFFF, no
-// reflection, no final xor).
-std::uint16_t BitwiseCrc(std::string_view bytes) {
-  std::uint16_t crc = 0xFFFF;
-  for (unsigned char byte : bytes) {
-    crc ^= static_cast<std::uint16_t>(byte << 8);
-    for (int bit = 0; bit < 8; ++bit) {
-      crc = (crc & 0x8000) ? static_cast<std::uint16_t>((crc << 1) ^ 0x1021)
-                           : static_cast<std::uint16_t>(crc << 1);
-    }
-  }
-  return crc;
-}
+using test::BitwiseCrc;  // the bitwise definition (tests/io/bitwise_crc.h)
 
 TEST_CASE("the table-driven CRC (8 bytes per step) equals the bitwise definition") {
   // Every length from 0 to 300 bytes, so each tail length after the 8-byte steps occurs, over

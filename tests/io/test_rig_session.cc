@@ -32,6 +32,7 @@
 #include "io/rig_protocol.h"
 #include "lti/error.h"
 #include "temp_dir.h"
+#include "tests/io/bitwise_crc.h"
 
 namespace lw {
 namespace {
@@ -297,18 +298,6 @@ bool AnyStartsWith(const std::vector<std::string>& lines, const std::string& pre
     if (s.rfind(prefix, 0) == 0) return true;
   }
   return false;
-}
-
-std::uint16_t PublishedCrc(const std::string& bytes) {
-  std::uint16_t crc = 0xFFFF;
-  for (unsigned char b : bytes) {
-    crc ^= static_cast<std::uint16_t>(b << 8);
-    for (int bit = 0; bit < 8; ++bit) {
-      crc = (crc & 0x8000) ? static_cast<std::uint16_t>((crc << 1) ^ 0x1021)
-                           : static_cast<std::uint16_t>(crc << 1);
-    }
-  }
-  return crc;
 }
 
 TEST_CASE("rig session: connect narrows the host's limits to the rig's range") {
@@ -642,13 +631,13 @@ TEST_CASE("rig session: a dry run prints every line with its SEQ and CRC and wai
   s.SafeStop("end");
   CHECK_THROWS_AS(s.SetActuator(90), UsageError);  // the limits still apply
   CHECK_THROWS_AS(s.CloseLoop("p", 4, 10), UsageError);
-  REQUIRE(PublishedCrc("123456789") == 0x29B1);
+  REQUIRE(lw::test::BitwiseCrc("123456789") == 0x29B1);
   std::vector<std::string> expected_bodies = {"hello 0 1", "go 1", "u 2 20", "loop 3 p 2 10",
                                               "safe 4"};
   REQUIRE(lines.size() == expected_bodies.size());
   for (std::size_t i = 0; i < lines.size(); ++i) {
     char crc[8];
-    std::snprintf(crc, sizeof crc, "%04X", PublishedCrc(expected_bodies[i]));
+    std::snprintf(crc, sizeof crc, "%04X", lw::test::BitwiseCrc(expected_bodies[i]));
     CHECK(lines[i] == expected_bodies[i] + " *" + crc);
   }
   CHECK(s.samples().empty());
