@@ -17,6 +17,7 @@
 #ifndef LOOPWRIGHT_APP_RIG_PHASES_H_
 #define LOOPWRIGHT_APP_RIG_PHASES_H_
 
+#include <algorithm>
 #include <optional>
 #include <string>
 
@@ -35,6 +36,16 @@ struct PhaseTiming {
   double min_response_s = 0.0;     // the response recorded after the step lasts at least this
                                    // long (s): a slow response can look at rest while it still
                                    // creeps towards its final value
+
+  // A closed-loop step judged by `check` against a prediction that settles in `settle_s`
+  // seconds (0: none known): the hold before the step lasts at least the settling time (the
+  // check assumes the loop at rest before it) and the response at least twice it (the tail the
+  // check takes the final value from, the last fifth of the record in lti/step_metrics.h, then
+  // lies past settling); neither shorter than `floor_s`.
+  void CoverSettling(double settle_s, double floor_s = 0.0) {
+    min_hold_s = std::max(floor_s, settle_s);
+    min_response_s = std::max(floor_s, 2.0 * settle_s);
+  }
 };
 
 // "auto" or a number of seconds > 0; UsageError naming --settle otherwise.

@@ -195,14 +195,8 @@ class TuneCommand : public Command {
     Banner(
         ctx, 6,
         "apply and verify: closed-loop step " + FormatNumber(a, 6) + " -> " + FormatNumber(b, 6));
-    // The loop starts on a plant still coming back to U0, and the check assumes it at rest at A
-    // before the step: the hold lasts the step test's length and the predicted settling time.
-    // The response is recorded for the step test's length and twice the predicted settling
-    // time, so the tail the check takes the final value from (the last fifth of the record,
-    // lti/step_metrics.h) lies well past settling.
-    const double settle = PredictedSettlingTime(file("prediction.json"));
-    timing.min_hold_s = std::max(step.duration_s, settle);
-    timing.min_response_s = std::max(step.duration_s, 2.0 * settle);
+    // The loop starts on a plant still coming back to U0: nothing shorter than the step test.
+    timing.CoverSettling(PredictedSettlingTime(file("prediction.json")), step.duration_s);
     StepOutcome verify = RunClosedLoopStep(ctx, *session, controller.ToString(), gain, a, b, timing,
                                            file("closed_loop.csv"), tag);
     session->SafeStop("tune: closed-loop step recorded");
