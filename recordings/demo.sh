@@ -16,9 +16,15 @@ banner() {
   step=$((step + 1))
   printf '\n=== step %d: %s ===\n' "$step" "$*"
 }
+say_command() { printf '$ %s\n' "$*" | sed "s#$bin#loopwright#; s#$out/##g; s#$here/##g"; }
 run() {
-  printf '$ %s\n' "$*" | sed "s#$bin#loopwright#; s#$out/##g; s#$here/##g"
+  say_command "$@"
   "$@"
+}
+# The command line shown, its output not (tables already shown in an earlier step).
+quiet() {
+  say_command "$@"
+  "$@" > /dev/null
 }
 
 cat <<'TEXT'
@@ -87,9 +93,9 @@ banner "keep a rig workspace: a profile and a logbook; fit both heater zone step
 rm -rf "$out/heater_rig"  # the demo's own workspace from an earlier run
 run "$bin" init "$out/heater_rig" --name "extruder zone 3" --period 1 --actuator 0:100 \
   --actuator-unit % --trip -20:260 --output-unit degC --max-gain 2
-run "$bin" --rig "$out/heater_rig" fit "$here/heater_zone_step.csv" --structure sopdt > /dev/null
-run "$bin" --rig "$out/heater_rig" fit "$here/heater_zone_after_rework.csv" --structure sopdt \
-  > /dev/null
+quiet "$bin" --rig "$out/heater_rig" fit "$here/heater_zone_step.csv" --structure sopdt
+quiet "$bin" --rig "$out/heater_rig" fit "$here/heater_zone_after_rework.csv" --structure sopdt
+echo "(each fit logged in the workspace; its table as in steps 3 and 6)"
 
 banner "the rig's history, and how its parameters moved after the heater band was replaced"
 run "$bin" log --rig "$out/heater_rig"
