@@ -55,6 +55,10 @@ CeresRun RunCeres(ceres::CostFunction* cost, std::vector<double>& x, const std::
   so.function_tolerance = options.function_tolerance;
   so.parameter_tolerance = options.parameter_tolerance;
   so.gradient_tolerance = options.gradient_tolerance;
+  // With bounds Ceres follows every trust-region step with a projected line search that
+  // evaluates the gradient again (two thirds of a polish's work); the step is projected onto
+  // the bounds without it, and the trust region already controls its length.
+  so.max_num_line_search_step_size_iterations = 0;
   so.num_threads = 1;
   so.logging_type = ceres::SILENT;
   ceres::Solver::Summary summary;
