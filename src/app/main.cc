@@ -2,14 +2,16 @@
 // turns every error into one sentence on stderr and its documented exit status.
 #include <unistd.h>
 
+#include <algorithm>
+#include <cctype>
 #include <cstdlib>
 #include <iostream>
 #include <memory>
 #include <string>
 #include <vector>
 
-#include <CLI/CLI.hpp>
 #include <glog/logging.h>
+#include <CLI/CLI.hpp>
 
 #include "app/command.h"
 #include "lti/error.h"
@@ -25,6 +27,57 @@ std::string JoinCommandLine(int argc, char** argv) {
     line += plain ? a : "'" + a + "'";
   }
   return line;
+}
+
+// Edit distance between two option names (insertions, deletions, substitutions).
+size_t EditDistance(const std::string& a, const std::string& b) {
+  std::vector<size_t> row(b.size() + 1);
+  for (size_t j = 0; j <= b.size(); ++j) row[j] = j;
+  for (size_t i = 1; i <= a.size(); ++i) {
+    size_t diag = row[0];
+    row[0] = i;
+    for (size_t j = 1; j <= b.size(); ++j) {
+      size_t up = row[j];
+      row[j] = std::min({row[j] + 1, row[j - 1] + 1, diag + (a[i - 1] == b[j - 1] ? 0 : 1)});
+      diag = up;
+    }
+  }
+  return row[b.size()];
+}
+
+// The first argument after the command's name that looks like an option but is none of the
+// command's (CLI11 can report a later consequence first, e.g. the value of a mistyped option
+// taken as a positional), with the closest option name when one is near.
+std::string UnknownOption(const CLI::App& sub, int argc, char** argv) {
+  bool after_name = false;
+  for (int i = 1; i < argc; ++i) {
+    std::string arg = argv[i];
+    if (!after_name) {
+      after_name = arg == sub.get_name();
+      continue;
+    }
+    if (arg == "--") break;
+    if (arg.size() < 2 || arg[0] != '-') continue;
+    if (arg[1] != '-' && (std::isdigit(static_cast<unsigned char>(arg[1])) || arg[1] == '.'))
+      continue;  // a negative number
+    std::string name = arg.substr(0, arg.find('='));
+    if (arg[1] != '-') name = name.substr(0, 2);  // -oFILE
+    if (sub.get_option_no_throw(name) != nullptr) continue;
+    std::string what = "'" + name + "' is not an option of " + sub.get_name();
+    std::string best;
+    size_t best_d = 3;
+    for (const CLI::Option* opt : sub.get_options()) {
+      for (const std::string& long_name : opt->get_lnames()) {
+        size_t d = EditDistance(name, "--" + long_name);
+        bool prefix = name.size() > 3 && ("--" + long_name).rfind(name, 0) == 0;
+        if (prefix) d = std::min<size_t>(d, 1);
+        if (d < best_d) best_d = d, best = "--" + long_name;
+      }
+    }
+    if (!best.empty()) what += "; did you mean " + best + "?";
+    return what;
+  }
+  return "";
 }
 
 }  // namespace
@@ -73,10 +126,13 @@ int main(int argc, char** argv) {
   } catch (const CLI::ParseError& e) {
     // Point at the help of the command the mistake was made in, when one was named.
     std::string help = "loopwright --help";
-    for (CLI::App* sub : subs) {
-      if (sub->parsed()) help = "loopwright " + sub->get_name() + " --help";
-    }
     std::string what = e.what();
+    for (CLI::App* sub : subs) {
+      if (!sub->parsed()) continue;
+      help = "loopwright " + sub->get_name() + " --help";
+      std::string unknown = UnknownOption(*sub, argc, argv);
+      if (!unknown.empty()) what = unknown;
+    }
     if (help == "loopwright --help") {
       // A mistyped command name reaches CLI11 as a stray argument: name it and the commands.
       for (int i = 1; i < argc; ++i) {

@@ -277,6 +277,14 @@ def case_errors():
          2, r"proper", out),
         ("unknown option", ["simulate", *good, *base, "--colour"], 2,
          r"--colour.*\(see loopwright simulate --help\)", out),
+        # A mistyped option's value would otherwise be read as the model file and reported as
+        # "MODEL.json excludes --plant": the unknown option is named first, with the near one.
+        ("mistyped option with a value", ["band", "--plant", "1/(s+1)", "--overshot-max", "10"],
+         2, r"'--overshot-max' is not an option of band; did you mean --overshoot-max\? "
+         r"\(see loopwright band --help\)", out),
+        ("negative value is no option", ["simulate", "--plant", "1/(s+1)", "--gain", "-2",
+                                         "--reference", "step:0:1:1", *base, "--duratoin"], 2,
+         r"^loopwright: '--duratoin' is not an option of simulate; did you mean --duration\?", out),
         ("mistyped command", ["simulat", *good, *base], 2,
          r"'simulat' is not a loopwright command; the commands are simulate, fit, ", out),
         ("output folder missing", ["simulate", *good, "--rate", "10", "--duration", "5", "-o",
