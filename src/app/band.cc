@@ -114,7 +114,8 @@ std::vector<std::string> Differences(const TransferFunction& plant, const Contro
     notes.push_back("the locus and response bands agree within 2 %");
     return notes;
   }
-  notes.push_back("the bands differ: the region is a second-order picture of the dominant pair;");
+  notes.push_back(
+      "the bands differ: the region is exact only for a second-order loop, and this one is not");
   std::vector<std::string> zeros;
   for (const auto& z : (controller.Shape() * plant.Rational()).zeros()) {
     if (std::abs(z) < 1e6 && z.real() > -1e6 && z.imag() >= 0.0) zeros.push_back(PoleText(z));
