@@ -40,20 +40,26 @@ PoleScreen ScreenPoles(const LoopPolynomials& loop, double delay, double gain, c
     screen.failed = "unstable";
     return screen;
   }
-  double duration = 12.0 / slowest + 2.0 * delay;
+  // The record covers the slowest mode (e^-12 of it left) and the delay; the specs lengthen it
+  // so that a response slower than they allow is seen to be.
+  const double settle = 12.0 / slowest + 2.0 * delay;
+  double duration = settle;
   if (specs.settle_max) duration = std::max(duration, 2.0 * *specs.settle_max);
   if (specs.peak_max) duration = std::max(duration, 3.0 * *specs.peak_max);
   if (specs.rise_max) duration = std::max(duration, 3.0 * *specs.rise_max);
   // The exact-delay simulation steps at about a tenth of the fastest closed-loop time constant,
   // so a record of `duration` costs about 10 * duration * fastest steps. Beyond kMaxModeSpread
-  // steps the loop's slowest mode is so much slower than its fastest that no practical response
-  // spec is met (it creeps to its final value); such gains are judged too slow, not simulated.
+  // steps over the slowest mode's own settling the loop's slowest mode is so much slower than its
+  // fastest that no practical response spec is met (it creeps to its final value); such gains are
+  // judged too slow, not simulated. A loop that is merely fast next to the specs (a high gain
+  // on a first-order plant) is not: its record is cut to the step budget, never below `settle`,
+  // after which the response is at its final value and the specs' extra length adds nothing.
   constexpr double kMaxModeSpread = 2e5;
-  if (10.0 * duration * fastest > kMaxModeSpread) {
+  if (10.0 * settle * fastest > kMaxModeSpread) {
     screen.failed = "too slow";
     return screen;
   }
-  screen.duration = duration;
+  screen.duration = std::min(duration, std::max(settle, kMaxModeSpread / (10.0 * fastest)));
   return screen;
 }
 

@@ -106,6 +106,34 @@ TEST_CASE("response band edges straddle a pole-screened lower edge and an oversh
   CHECK(std::sqrt(in * out) == doctest::Approx(edge).epsilon(2e-6));
 }
 
+TEST_CASE("a first-order loop fast next to its settling spec is not judged too slow") {
+  // 2/(5 s + 1) under P control: y(t) = y_final (1 - exp(-sigma t)), sigma = (1 + 2 K)/5, so the
+  // 2 % settling time is ln(50)/sigma (first-order step response, any control text; from
+  // memory) and settling within 2 s needs K >= (5 ln(50)/2 - 1)/2 = 4.390; every larger gain is
+  // faster still, so the band has no upper edge. (A record stretched to twice the settling spec
+  // once made a very fast loop look like a creeping one: an upper edge near K = 1.25e4.)
+  const TransferFunction plant(Polynomial({2.0}), Polynomial({5.0, 1.0}), 0.0);
+  Specs specs;
+  specs.settle_max = 2.0;
+  const Controller c = Controller::Parse("p");
+  const ResponseBandOptions opt;
+  const ResponseBand band = FindResponseBand(plant, c, specs, opt);
+  REQUIRE(band.ranges.size() == 1);
+  CHECK(band.ranges[0].lo.gain ==
+        doctest::Approx((5.0 * std::log(50.0) / 2.0 - 1.0) / 2.0).epsilon(1e-3));
+  CHECK(band.ranges[0].lo.limiting == "settling");
+  CHECK(std::isinf(band.ranges[0].hi.gain));
+  // At K = 10 the record (4 s, 1500 samples) resolves the settling time: ln(50)/4.2 = 0.931 s.
+  const ResponseCheck at10 = CheckResponse(plant, c, 10.0, specs, opt);
+  CHECK(at10.meets);
+  CHECK(at10.metrics.settling_time == doctest::Approx(std::log(50.0) / 4.2).epsilon(1e-2));
+  for (double k : {1e3, 1e4, 1e5, 1e6}) {
+    const ResponseCheck check = CheckResponse(plant, c, k, specs, opt);
+    CHECK_MESSAGE(check.meets, "K = " << k << " failed: " << check.failed);
+    CHECK(check.metrics.settling_time <= 2.0);
+  }
+}
+
 TEST_CASE("the response band does not depend on how many threads share the search") {
   // 0.8 exp(-0.25 s) / ((1.5 s + 1)(0.6 s + 1)(0.2 s + 1)) under PI control (zero at 0.5 rad/s).
   TransferFunction plant(Polynomial({0.8}),
