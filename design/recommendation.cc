@@ -1,5 +1,7 @@
 #include "design/recommendation.h"
 
+#include <cmath>
+#include <string>
 #include <vector>
 
 namespace lw {
@@ -25,8 +27,17 @@ Recommendation Recommend(const GainSet& locus, const GainSet& response,
   Recommendation rec;
   for (const Option& o : options) {
     if (o.set.empty()) continue;
-    rec.found = true;
     rec.range = Widest(o.set);
+    if (rec.range.lo <= 0.0 && std::isinf(rec.range.hi)) {
+      // Every gain from 0 up: the specs bound nothing, and no middle of [0, inf) is a choice.
+      rec.gain = 0.0;
+      rec.source.clear();
+      rec.reason =
+          "the band is [0, inf): every gain from 0 up meets the specs, so they set no "
+          "gain to recommend";
+      return rec;
+    }
+    rec.found = true;
     rec.gain = GeometricMiddle(rec.range);
     rec.source = o.source;
     rec.reason =

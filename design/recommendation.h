@@ -5,6 +5,8 @@
 //   then its widest range in decades (gain_intervals.h DecadeWidth) and that range's geometric
 //   middle sqrt(lo hi) (GeometricMiddle: a range from 0 gives hi / sqrt(10), an open-ended one
 //   lo sqrt(10)).
+// A widest range of [0, inf) (every gain from 0 up, e.g. a stable first-order plant with no
+// spec beyond stability) recommends nothing: found is false and reason says why.
 // The geometric middle is as far (as a ratio) from either edge, so a gain error by the same factor
 // either way stays inside; the robust band comes first because it already holds for 95 % of the
 // plausible plants, the response band next because it uses the exact dead time and the real
@@ -20,7 +22,7 @@
 namespace lw {
 
 struct Recommendation {
-  bool found = false;
+  bool found = false;  // false: no set has a range, or the chosen range is [0, inf)
   double gain = 0.0;
   GainRange range;     // the range it is the middle of
   std::string source;  // "robust and response", "robust", "locus and response", "response", "locus"

@@ -6,8 +6,9 @@
 // region, design/gain_band.h), the simulated response band (exact dead time,
 // design/response_band.h), the robust band over parameter draws when the model file carries a
 // covariance (design/robust_band.h), optionally the band of the sampled loop, and the
-// recommended gain (design/recommendation.h). Exit 1 with one sentence when no gain meets the
-// specs. Robust draws come from identify/parameter_draws.h (app/model_draws.h). --save (alias -o,
+// recommended gain (design/recommendation.h; none, JSON null, when the band is [0, inf)).
+// Exit 1 with one sentence when no gain meets the specs. Robust draws come from
+// identify/parameter_draws.h (app/model_draws.h). --save (alias -o,
 // --out) writes the JSON document the report reads; --plot draws the locus and metrics figures
 // (app/band_plot.h); a bad figure extension is refused before anything is computed.
 #include <cmath>
@@ -231,8 +232,9 @@ class BandCommand : public Command {
                     {"response", RangesJson(response.gains())},
                     {"robust", robust ? RangesJson(*robust) : json(nullptr)}};
     if (discrete) doc["bands"]["discrete"] = RangesJson(discrete->band.gains());
-    doc["recommended_gain"] = JsonNumber(rec.gain);
-    doc["recommendation"] = {{"from", rec.source}, {"rule", rec.reason}};
+    doc["recommended_gain"] = rec.found ? JsonNumber(rec.gain) : json(nullptr);
+    doc["recommendation"] = {{"from", rec.found ? json(rec.source) : json(nullptr)},
+                             {"rule", rec.reason}};
     doc["region"] = RegionJson(region);
     doc["specs"] = SpecsJson(specs);
     doc["controller"] = controller.ToString();
@@ -339,12 +341,22 @@ class BandCommand : public Command {
       table.AddRow({"sampled", ToString(discrete->band.gains()),
                     Verdict(!discrete->band.empty(), "found", "none")});
     }
-    table.AddRow({"recommended", "K = " + FormatNumber(rec.gain, 4),
-                  SummaryCell(rec.source, CellMark::kOk)});
+    if (rec.found) {
+      table.AddRow({"recommended", "K = " + FormatNumber(rec.gain, 4),
+                    SummaryCell(rec.source, CellMark::kOk)});
+    } else {
+      table.AddRow({"recommended", "none", SummaryCell("unbounded", CellMark::kCaution)});
+    }
     table.Print(ctx);
-    out << "\n"
-        << Good(ctx, "recommended gain K = " + FormatNumber(rec.gain, 4)) << ": " << rec.reason
-        << "\n";
+    out << "\n";
+    if (rec.found) {
+      out << Good(ctx, "recommended gain K = " + FormatNumber(rec.gain, 4)) << ": " << rec.reason
+          << "\n";
+    } else {
+      out << Caution(ctx, "no recommended gain") << ": " << rec.reason
+          << "; a spec that limits the gain (--overshoot-max, --zeta-min, --rise-max, "
+             "--settle-max) gives one\n";
+    }
     for (const std::string& f : figures) out << "figure: " << f << "\n";
     if (!out_path_.empty()) out << "band file: " << out_path_ << "\n";
     return 0;

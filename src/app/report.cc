@@ -140,9 +140,16 @@ class Builder {
     band_index_ = sections_.size() - 1;
 
     ReportSection gain{"Chosen gain", {}, {}, {}};
-    gain.paragraphs.push_back(
-        "Recommended gain K = " + Text(doc.value("recommended_gain", json())) + ".");
-    if (doc.contains("recommendation"))
+    const json rule =
+        doc.contains("recommendation") ? doc["recommendation"].value("rule", json()) : json();
+    if (doc.value("recommended_gain", json()).is_null()) {
+      // band.cc: a band of [0, inf) recommends no gain, and the rule says so.
+      gain.paragraphs.push_back("No recommended gain: " + Text(rule) + ".");
+    } else {
+      gain.paragraphs.push_back(
+          "Recommended gain K = " + Text(doc.value("recommended_gain", json())) + ".");
+    }
+    if (doc.contains("recommendation") && !doc["recommendation"].value("from", json()).is_null())
       gain.paragraphs.push_back("Rule: " + Text(doc["recommendation"].value("rule", json())) +
                                 " (from the " + Text(doc["recommendation"].value("from", json())) +
                                 " band).");

@@ -361,7 +361,14 @@ class TuneCommand : public Command {
     nlohmann::json doc = nlohmann::json::parse(in, nullptr, /*allow_exceptions=*/false);
     if (doc.is_discarded() || !doc.contains("recommended_gain") ||
         !doc["recommended_gain"].is_number()) {
-      throw JobFailed(band_path + " names no recommended gain; nothing was applied");
+      // A band of [0, inf) recommends nothing and its rule says why (design/recommendation.h).
+      std::string why;
+      if (!doc.is_discarded() && doc.contains("recommendation") &&
+          doc["recommendation"].value("rule", nlohmann::json()).is_string()) {
+        why = " (" + doc["recommendation"]["rule"].get<std::string>() +
+              "; give --gain or a spec that limits the gain)";
+      }
+      throw JobFailed(band_path + " names no recommended gain" + why + "; nothing was applied");
     }
     return doc["recommended_gain"].get<double>();
   }

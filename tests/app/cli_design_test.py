@@ -290,6 +290,37 @@ def case_infeasible():
     check(not os.path.exists(out_file), "no band file is left for an infeasible band")
 
 
+def case_unbounded_band():
+    # 2/(5s + 1) under P control: the closed loop 5s + 1 + 2K = 0 is stable for every K > -1/2
+    # (Routh-Hurwitz, first order: one coefficient sign), so with no spec beyond stability the
+    # band is [0, inf) and no gain is recommended (the middle of [0, inf) would be K = 0).
+    out_file = path("unbounded_band.json")
+    code, out, err = run("band", "--plant", "2/(5*s+1)", "--save", out_file)
+    check(code == 0, f"an unbounded band is still a band: exit 0 (got {code}, {err!r})")
+    check("locus band (dominant poles in the region): [0, inf)" in out, f"locus band [0, inf) ({out!r})")
+    check(re.search(r"no recommended gain: the band is \[0, inf\).*--overshoot-max", out)
+          is not None, f"says why no gain is recommended and which specs bound it ({out!r})")
+    check("recommended gain K" not in out, f"no gain is recommended ({out!r})")
+    with open(out_file) as f:
+        doc = json.load(f)
+    check(doc["recommended_gain"] is None, f"recommended_gain is null ({doc['recommended_gain']!r})")
+    check(doc["recommendation"]["from"] is None, "recommendation.from is null")
+    check("[0, inf)" in doc["recommendation"]["rule"], "the rule says the band is [0, inf)")
+    # A settling bound gives the locus band a low edge: sigma = (1 + 2K)/5 >= 4/ts, i.e.
+    # K >= (20/ts - 1)/2 (2 % band, sigma ts = 4: common practice), and [lo, inf) recommends
+    # lo sqrt(10).
+    code, out, err = run("band", "--plant", "2/(5*s+1)", "--settle-max", "2", "--json")
+    check(code == 0, f"settling bound: exit 0 (got {code}, {err!r})")
+    doc = json.loads(out)
+    check(doc["recommended_gain"] is not None and doc["recommended_gain"] > 0,
+          f"a band [lo, inf) recommends a gain ({doc['recommended_gain']!r})")
+    # The simulated response settles (2 %) in ln(50)/sigma exactly (first order), so its band
+    # starts at K = (5 ln(50)/2 - 1)/2 = 4.390 and, faster at every larger gain, has no end.
+    resp = doc["bands"]["response"]
+    check(len(resp) == 1 and close(resp[0][0], (5 * math.log(50) / 2 - 1) / 2, 1e-3)
+          and resp[0][1] is None, f"response band [4.390, inf) (got {resp!r})")
+
+
 def expect_error(label, args, status, pattern, files):
     code, out, err = run(*args)
     check(code == status, f"{label}: exit {status} (got {code}, stderr {err!r})")

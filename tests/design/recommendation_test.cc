@@ -1,0 +1,54 @@
+// The recommendation rule of design/recommendation.h: the priority of the sets, the geometric
+// middle of the widest range, and no recommendation for a band of [0, inf).
+#include <cmath>
+#include <limits>
+#include <optional>
+
+#include <doctest/doctest.h>
+
+#include "design/recommendation.h"
+
+namespace lw {
+namespace {
+
+constexpr double kInf = std::numeric_limits<double>::infinity();
+
+TEST_CASE("Recommend takes the geometric middle of the widest range of the first non-empty set") {
+  // Locus [0.2, 1.8] and response [0.3, 2.7]: they overlap in [0.3, 1.8], middle sqrt(0.54).
+  Recommendation r = Recommend({{0.2, 1.8}}, {{0.3, 2.7}}, std::nullopt);
+  REQUIRE(r.found);
+  CHECK(r.source == "locus and response");
+  CHECK(r.range.lo == doctest::Approx(0.3));
+  CHECK(r.range.hi == doctest::Approx(1.8));
+  CHECK(r.gain == doctest::Approx(std::sqrt(0.3 * 1.8)));
+  // A robust band overlapping the response band comes first.
+  r = Recommend({{0.2, 1.8}}, {{0.3, 2.7}}, GainSet{{0.5, 0.9}});
+  REQUIRE(r.found);
+  CHECK(r.source == "robust and response");
+  CHECK(r.gain == doctest::Approx(std::sqrt(0.5 * 0.9)));
+  // Of two ranges the one wider in decades wins: [0.1, 0.2] (0.30) against [1, 4] (0.60).
+  r = Recommend({{0.1, 0.2}, {1.0, 4.0}}, {{0.1, 0.2}, {1.0, 4.0}}, std::nullopt);
+  CHECK(r.gain == doctest::Approx(2.0));
+  // Open ends: [0, hi] gives hi / sqrt(10), [lo, inf) gives lo sqrt(10).
+  r = Recommend({{0.0, 0.7}}, {{0.0, 0.7}}, std::nullopt);
+  CHECK(r.gain == doctest::Approx(0.7 / std::sqrt(10.0)));
+  r = Recommend({{0.4, kInf}}, {{0.4, kInf}}, std::nullopt);
+  CHECK(r.gain == doctest::Approx(0.4 * std::sqrt(10.0)));
+}
+
+TEST_CASE("Recommend finds nothing to recommend in a band of [0, inf) or in no band") {
+  // Every gain from 0 up meets the specs: the "middle" of [0, inf) would be K = 0 (no control).
+  Recommendation r = Recommend({{0.0, kInf}}, {{0.0, kInf}}, std::nullopt);
+  CHECK_FALSE(r.found);
+  CHECK(r.gain == 0.0);
+  CHECK(r.source.empty());
+  CHECK(r.reason.find("[0, inf)") != std::string::npos);
+  // Same when the robust band is the unbounded one that would be chosen first.
+  r = Recommend({{0.0, kInf}}, {{0.0, kInf}}, GainSet{{0.0, kInf}});
+  CHECK_FALSE(r.found);
+  r = Recommend({}, {}, std::nullopt);
+  CHECK_FALSE(r.found);
+}
+
+}  // namespace
+}  // namespace lw
