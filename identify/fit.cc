@@ -241,7 +241,7 @@ double StudentQuantile(double p, double dof) {
 }
 
 void FitOptions::Validate() const {
-  if (structure != "auto") ParseStructure(structure);
+  CheckStructureChoice(structure);
   if (!(window_start < window_end)) {
     throw UsageError("window " + Num(window_start) + ":" + Num(window_end) +
                      ": the start must be before the end");

@@ -39,6 +39,15 @@ Structure ParseStructure(std::string_view name) {
                    "': expected one of fopdt, sopdt, underdamped, integrating, sopdt-zero");
 }
 
+void CheckStructureChoice(std::string_view name) {
+  if (name == "auto") return;
+  for (Structure s : AllStructures()) {
+    if (StructureName(s) == name) return;
+  }
+  throw UsageError("structure '" + std::string(name) +
+                   "': expected auto or one of fopdt, sopdt, underdamped, integrating, sopdt-zero");
+}
+
 std::vector<std::string> ParameterNames(Structure s) {
   switch (s) {
     case Structure::kFopdt:

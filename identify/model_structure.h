@@ -34,6 +34,9 @@ const std::vector<Structure>& AllStructures();
 std::string_view StructureName(Structure s);
 // The inverse of StructureName; throws UsageError listing the valid names.
 Structure ParseStructure(std::string_view name);
+// A fit's structure choice: "auto" (every structure, structure_selection.h) or a name that
+// ParseStructure takes; anything else throws UsageError listing both.
+void CheckStructureChoice(std::string_view name);
 
 // What one parameter is: its name (snake_case), its unit given the recording's input and output
 // units, and the rule that keeps it physical.

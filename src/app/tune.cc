@@ -130,8 +130,7 @@ class TuneCommand : public Command {
     timing.max_wait_s = max_wait_;
     std::optional<std::pair<double, double>> ref_step;
     if (!ref_step_.empty()) ref_step = ParseRefStep(ref_step_);
-    if (structure_ != "auto")
-      ParseStructure(structure_);  // a wrong name fails before anything moves
+    CheckStructureChoice(structure_);  // a wrong name fails before anything moves
     ResolvedRig rig = rig_.Resolve(ctx);
     if (controller_.has_gain()) rig.limits.RequireGain(controller_.gain());
     std::string dir = dir_;

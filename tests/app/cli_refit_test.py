@@ -296,6 +296,9 @@ def case_errors():
          r"fig\.bmp"),
         ("missing output folder", ["fit", rework, "-o", path("no/such/dir/m.json")], 2,
          r"does not exist"),
+        ("unknown structure", ["fit", rework, "--structure", "fopdtt", "-o", out_file], 2,
+         r"structure 'fopdtt': expected auto or one of fopdt, sopdt, underdamped, integrating, "
+         r"sopdt-zero"),
         ("negative near-tie width", ["fit", rework, "--simpler-within", "-1", "-o", out_file], 2,
          r"--simpler-within -1: must be a delta AICc >= 0"),
         ("-o equals --plot", ["fit", rework, "-o", path("same.svg"), "--plot", path("same.svg")], 2,
