@@ -19,11 +19,13 @@
 #include <vector>
 
 #include "lti/error.h"
+#include "tests/io/pty_master.h"
 
 namespace lw {
 namespace {
 
 using std::chrono::milliseconds;
+using test::OpenPtyMaster;
 
 // The next event of a queue-mode link that must arrive within two seconds.
 RigLineEvent Next(RigLink& link) {
@@ -92,11 +94,8 @@ TEST_CASE("rig link over a socketpair: both directions, SEQ set by the link") {
 }
 
 TEST_CASE("rig link over a pseudo-terminal: the serial transport opens the slave path raw") {
-  int master = posix_openpt(O_RDWR | O_NOCTTY);
-  REQUIRE(master >= 0);
-  REQUIRE(grantpt(master) == 0);
-  REQUIRE(unlockpt(master) == 0);
-  const std::string slave = ptsname(master);
+  std::string slave;
+  const int master = OpenPtyMaster(slave);
   RigLinkOptions options;
   options.baud = 115200;
   LinkPair pair;
@@ -111,16 +110,6 @@ TEST_CASE("rig link over a pseudo-terminal: the serial transport opens the slave
   pair.rig.reset();
   CHECK_THROWS_WITH_AS(pair.host->NextEvent(milliseconds(2000)),
                        ("the rig on " + slave + " closed the link").c_str(), LinkError);
-}
-
-// A pseudo-terminal's master end (the rig) and its slave path (for OpenRigLink).
-int OpenPtyMaster(std::string& slave) {
-  int master = posix_openpt(O_RDWR | O_NOCTTY);
-  REQUIRE(master >= 0);
-  REQUIRE(grantpt(master) == 0);
-  REQUIRE(unlockpt(master) == 0);
-  slave = ptsname(master);
-  return master;
 }
 
 TEST_CASE("pty link: Close() ends a reader blocked in read(2), whenever it comes") {
