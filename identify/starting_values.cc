@@ -87,6 +87,11 @@ std::vector<std::vector<double>> StartingValues(Structure s, const StepRecording
             Full(s, {k, tau * (1 - frac), tau * frac, std::max(0.0, dead - frac * tau)}, y0));
         starts.push_back(Full(s, {k, tau, tau * frac, dead}, y0));
       }
+      // The fopdt fit itself, with a second lag well under a sample: sopdt nests fopdt, so the
+      // multi-start then never ends worse than the fopdt fit (the fractions above scale with
+      // tau and miss it when the fopdt time constant ran to its bound on an integrating rig).
+      if (!seed.empty())
+        starts.push_back(Full(s, {k, tau, std::clamp(0.01 * tau, 2e-3 * h, 0.5 * h), dead}, y0));
       break;
     }
     case Structure::kUnderdamped: {
