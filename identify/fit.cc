@@ -262,17 +262,30 @@ void FitOptions::Validate() const {
   selection.Validate();
 }
 
+// Why the data do not determine a fit's parameters (structure_selection.h), or empty.
+std::string Undetermined(const FitResult& f) {
+  if (!f.covariance_ok || !f.rank_deficiency.empty()) return "its covariance is rank-deficient";
+  for (const ParameterEstimate& p : f.parameters) {
+    if (p.name == "dead_time" || p.name == "zero_time_constant") continue;  // may be 0
+    if (!(p.ci_low > 0.0 || p.ci_high < 0.0)) {
+      return "the 95 % interval of " + p.name + " contains 0";
+    }
+  }
+  return "";
+}
+
 int ChooseCandidate(std::vector<Candidate>& candidates, const SelectionOptions& options,
                     std::string& note) {
   std::vector<double> crit;
   std::vector<int> k;
-  std::vector<bool> usable;
+  std::vector<bool> usable, determined;
   for (const auto& c : candidates) {
     crit.push_back(c.usable ? c.aicc : kInf);
     k.push_back(c.free_parameters);
     usable.push_back(c.usable);
+    determined.push_back(c.undetermined.empty());
   }
-  const Selection sel = SelectStructure(crit, k, usable, options);
+  const Selection sel = SelectStructure(crit, k, usable, options, determined);
   note.clear();
   for (size_t i = 0; i < candidates.size(); ++i) {
     Candidate& c = candidates[i];
@@ -280,7 +293,17 @@ int ChooseCandidate(std::vector<Candidate>& candidates, const SelectionOptions& 
     c.smallest = static_cast<int>(i) == sel.smallest;
     c.chosen = static_cast<int>(i) == sel.chosen;
   }
-  if (sel.chosen != sel.smallest) {
+  if (sel.chosen != sel.smallest &&
+      candidates[static_cast<size_t>(sel.chosen)].free_parameters ==
+          candidates[static_cast<size_t>(sel.smallest)].free_parameters) {
+    const Candidate& a = candidates[static_cast<size_t>(sel.chosen)];
+    const Candidate& b = candidates[static_cast<size_t>(sel.smallest)];
+    note = std::string(StructureName(a.structure)) + " is chosen: within delta AICc " +
+           Num(options.support_width) + " of the smallest (" +
+           std::string(StructureName(b.structure)) + ", delta " + Num(a.delta_aicc) +
+           ") with as many parameters, and the data determine its parameters while " +
+           std::string(StructureName(b.structure)) + "'s are not (" + b.undetermined + ")";
+  } else if (sel.chosen != sel.smallest) {
     const Candidate& a = candidates[static_cast<size_t>(sel.chosen)];
     const Candidate& b = candidates[static_cast<size_t>(sel.smallest)];
     note = std::string(StructureName(a.structure)) + " is chosen: within delta AICc " +
@@ -529,6 +552,7 @@ Identification Identify(const StepRecording& recording, const FitOptions& option
       c.residual_rms = f.residual_rms;
       c.aicc = f.aicc;
       c.free_parameters = f.free_parameters;
+      c.undetermined = Undetermined(f);
       id.candidates.push_back(c);
       crit.push_back(f.aicc);
       usable.push_back(c.usable);

@@ -114,6 +114,9 @@ struct Candidate {
   // candidate is chosen).
   double fit_percent = 0.0, residual_rms = 0.0, aicc = 0.0, delta_aicc = 0.0;
   int free_parameters = 0;
+  // Empty when the data determine the parameters; else why not (structure_selection.h: a
+  // rank-deficient covariance, or e.g. "the 95 % interval of gain contains 0").
+  std::string undetermined;
   bool smallest = false;  // has the smallest AICc
   bool chosen = false;    // is the model returned
 };

@@ -46,7 +46,7 @@ void SelectionOptions::Validate() const {
 
 Selection SelectStructure(const std::vector<double>& criterion,
                           const std::vector<int>& free_parameters, const std::vector<bool>& usable,
-                          const SelectionOptions& options) {
+                          const SelectionOptions& options, const std::vector<bool>& determined) {
   options.Validate();
   Selection s;
   s.smallest = SelectMinimum(criterion, usable);
@@ -56,8 +56,13 @@ Selection SelectStructure(const std::vector<double>& criterion,
   for (size_t i = 0; i < criterion.size() && i < usable.size() && i < free_parameters.size(); ++i) {
     if (!usable[i] || !std::isfinite(criterion[i]) || criterion[i] > limit) continue;
     const size_t c = static_cast<size_t>(s.chosen);
-    if (free_parameters[i] < free_parameters[c] ||
-        (free_parameters[i] == free_parameters[c] && criterion[i] < criterion[c])) {
+    const bool det_i = i >= determined.size() || determined[i];
+    const bool det_c = c >= determined.size() || determined[c];
+    if (free_parameters[i] != free_parameters[c]) {
+      if (free_parameters[i] < free_parameters[c]) s.chosen = static_cast<int>(i);
+    } else if (det_i != det_c) {
+      if (det_i) s.chosen = static_cast<int>(i);
+    } else if (criterion[i] < criterion[c]) {
       s.chosen = static_cast<int>(i);
     }
   }

@@ -18,8 +18,14 @@
 // AICc; their extra pole or zero is then poorly determined (a near pole-zero pair, a shifted dead
 // time). SelectStructure therefore takes, among the usable candidates within
 // `support_width` of the smallest AICc, the one with the fewest free parameters, and among
-// those the smallest AICc. Taking the simplest supported model is common practice, not a
-// theorem; `prefer_fewer_parameters = false` (or width 0) restores the plain minimum.
+// those the one whose parameters the data determine (`determined`, below), then the smallest
+// AICc. Taking the simplest supported, identifiable model is common practice, not a theorem;
+// `prefer_fewer_parameters = false` (or width 0) restores the plain minimum.
+// `determined[i]` is false when candidate i's covariance is rank-deficient or a 95 % interval
+// of a quantity that must not be zero (a gain, a time constant, a damping ratio, a natural
+// frequency) contains zero: e.g. a sopdt fitted to an integrating tank, whose first time
+// constant runs far beyond the record so that gain and time constant are not told apart, ties
+// with the integrating structure (same number of parameters) and loses to it.
 #ifndef LOOPWRIGHT_IDENTIFY_STRUCTURE_SELECTION_H_
 #define LOOPWRIGHT_IDENTIFY_STRUCTURE_SELECTION_H_
 
@@ -46,10 +52,12 @@ struct Selection {
 };
 
 // The choice described above among entries with usable[i] and a finite criterion;
-// `free_parameters[i]` is entry i's k. All three vectors have the same length.
+// `free_parameters[i]` is entry i's k. All vectors have the same length; an empty `determined`
+// counts every entry as determined.
 Selection SelectStructure(const std::vector<double>& criterion,
                           const std::vector<int>& free_parameters, const std::vector<bool>& usable,
-                          const SelectionOptions& options);
+                          const SelectionOptions& options,
+                          const std::vector<bool>& determined = {});
 
 // Index of the smallest criterion among entries with usable[i]; -1 when none is usable.
 int SelectMinimum(const std::vector<double>& criterion, const std::vector<bool>& usable);

@@ -235,6 +235,27 @@ def case_near_tie():
           is not None, "one note under the table says why")
 
 
+def case_integrating_tie():
+    # The tank recording (recordings/README.md: integrating, synthetic). Two properties that hold
+    # whatever the noise: sopdt nests fopdt (tau2 -> 0), so its least-squares fit is never worse;
+    # and a sopdt whose first time constant ran far beyond the record is an integrator whose gain
+    # and time constant the data cannot tell apart, so it must not win a near-tie against the
+    # integrating structure that has as many parameters (identify/structure_selection.h).
+    rec = os.path.join(REC, "tank_level_step.csv")
+    code, out, err = run("fit", rec, "--json")
+    check(code == 0, f"fit exits 0 ({err.strip()})")
+    doc = json.loads(out)
+    fits = {c["structure"]: c for c in doc["candidates"] if c["usable"]}
+    check(fits["sopdt"]["fit_percent"] >= fits["fopdt"]["fit_percent"] - 1e-9,
+          f"sopdt fits at least as well as fopdt (sopdt {fits['sopdt']['fit_percent']}, "
+          f"fopdt {fits['fopdt']['fit_percent']})")
+    check(doc["structure"] == "integrating", f"auto chooses integrating (got {doc['structure']})")
+    if fits["sopdt"]["aicc"] < fits["integrating"]["aicc"]:
+        check("integrating is chosen" in doc["selection"]["note"]
+              and "contains 0" in doc["selection"]["note"],
+              f"the note says why the smaller AICc lost ({doc['selection']['note']!r})")
+
+
 def case_units_and_text():
     # Column-name units and the factored model line; closed form first-order data:
     # y = 20 + 1.5 * 4 (1 - exp(-(t - 2 - 0.8)/3)) for t >= 2.8 (step of 4 at t = 2).

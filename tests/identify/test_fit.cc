@@ -185,6 +185,19 @@ TEST_CASE("near-tie selection: fewest parameters within the width, then the smal
         1);
   CHECK(lw::SelectStructure(crit, k, std::vector<bool>(4, false), lw::SelectionOptions{}).chosen ==
         -1);
+  // Equal k inside the width: a determined entry before an undetermined one, whatever their
+  // AICc; outside the width, or with fewer parameters elsewhere, determinedness does not count.
+  CHECK(lw::SelectStructure({8.0, 8.6}, {5, 5}, {true, true}, lw::SelectionOptions{},
+                            {false, true})
+            .chosen == 1);
+  CHECK(lw::SelectStructure({8.0, 10.6}, {5, 5}, {true, true}, lw::SelectionOptions{},
+                            {false, true})
+            .chosen == 0);
+  CHECK(lw::SelectStructure({8.0, 8.6}, {4, 5}, {true, true}, lw::SelectionOptions{},
+                            {false, true})
+            .chosen == 0);
+  CHECK(lw::SelectStructure({8.0, 8.6}, {5, 5}, {true, true}, lw::SelectionOptions{}, {})
+            .chosen == 0);
   lw::SelectionOptions bad;
   bad.support_width = -1.0;
   CHECK_THROWS_AS(bad.Validate(), lw::UsageError);
