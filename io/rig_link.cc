@@ -246,7 +246,8 @@ struct RigLink::State {
   std::thread thread;
   std::atomic<bool> started{false};
   std::atomic<bool> closing{false};
-  std::atomic<bool> closed{false};
+  std::atomic<bool> closed{false};         // the transport is closed
+  std::atomic<bool> reading_ended{false};  // EndReading began: what RigLink::closed() reports
 
   // Reader thread only (set before it starts).
   std::vector<char> buffer;
@@ -468,6 +469,9 @@ struct RigLink::State {
   void EndReading(const std::string& message) {
     if (ended) return;
     ended = true;
+    // Before the end is published: a consumer that NextEvent has told "closed" finds closed()
+    // true (it was set only after the transport closed, so it could still read false).
+    reading_ended = true;
     try {
       splitter.Finish();
     } catch (const std::exception&) {
@@ -504,7 +508,7 @@ struct RigLink::State {
 
   // Called with write_mutex held (`lock`), which it releases before throwing.
   void Write(std::string line, std::unique_lock<std::mutex>& lock) {
-    if (writes_stopped || closed) {
+    if (writes_stopped || closed || reading_ended) {  // the link is ending: as after it ended
       lock.unlock();
       throw LinkError(StoppedText());
     }
@@ -622,7 +626,7 @@ void RigLink::Close() {
   }
 }
 
-bool RigLink::closed() const { return state_->closed; }
+bool RigLink::closed() const { return state_->reading_ended || state_->closed; }
 
 RigStreamCounts RigLink::counts() const {
   std::lock_guard<std::mutex> lock(state_->counts_mutex);
