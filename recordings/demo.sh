@@ -86,7 +86,7 @@ check_status=0
 run "$bin" check "$out/heater_zone_model.json" --controller pi:0.005 --gain 1.2 \
   "$here/heater_zone_closed_loop.csv" --actuator 0:100 --plot "$out/heater_zone_check.svg" \
   --save "$out/heater_zone_check.json" || check_status=$?
-echo "check verdict: $(sed -n 's/.*"verdict": "\([a-z]*\)".*/\1/p' "$out/heater_zone_check.json") (exit $check_status; 0 confirmed, 1 stale or saturated)"
+echo "check verdict: $(sed -n 's/.*"verdict": "\([a-z]*\)".*/\1/p' "$out/heater_zone_check.json") (exit status $check_status: 0 means confirmed, 1 stale or saturated)"
 
 # ---- rig workspace and logbook ----
 banner "keep a rig workspace: a profile and a logbook; fit both heater zone step tests into it"
