@@ -12,11 +12,11 @@
 //
 // Prints the parameters with 95 % intervals, the fit percentage, the criterion and warnings
 // (identify/fit.h explains the method). --structure auto fits every structure and chooses by
-// AICc, the fewest parameters among those within --simpler-within (default 2) of the smallest
-// (identify/structure_selection.h); the candidate table marks the chosen one with *, names the
-// smallest AICc when it differs and says why in one line below. -o writes the model file
-// (io/model_file.h) only after a successful fit, atomically. Exit 3 for an unusable recording, 1
-// when no fit converges.
+// AICc, the fewest parameters among those within --simpler-within (default 2) of the smallest,
+// then one whose parameters the data determine (identify/structure_selection.h); the candidate
+// table marks the chosen one with *, names the smallest AICc when it differs and says why in one
+// line below. -o writes the model file (io/model_file.h) only after a successful fit, atomically.
+// Exit 3 for an unusable recording, 1 when no fit converges.
 //
 // --closed-loop: the recording was made under feedback (columns t, r, u, y); the plant is fitted
 // inside the known loop C = K shape (identify/closed_loop_fit.h).
@@ -195,7 +195,8 @@ class FitCommand : public Command {
         ->capture_default_str();
     sub.add_option("--simpler-within", simpler_within_,
                    "auto: among structures within this delta AICc of the smallest, take the one "
-                   "with the fewest parameters (0: the smallest AICc alone)")
+                   "with the fewest parameters, then one whose parameters are determined (0: the "
+                   "smallest AICc alone)")
         ->capture_default_str();
     sub.add_option("--window", window_, "Use only T0 <= t <= T1 (seconds), e.g. 5:60");
     sub.add_flag("--robust", robust_, "Down-weight spikes with a robust loss (IRLS)");
