@@ -246,8 +246,9 @@ struct RigLink::State {
   std::thread thread;
   std::atomic<bool> started{false};
   std::atomic<bool> closing{false};
-  std::atomic<bool> closed{false};         // the transport is closed
-  std::atomic<bool> reading_ended{false};  // EndReading began: what RigLink::closed() reports
+  // Reading ended: set by EndReading after the last events and before the end is published,
+  // so a consumer told by NextEvent that the link closed finds closed() true and Send refusing.
+  std::atomic<bool> closed{false};
 
   // Reader thread only (set before it starts).
   std::vector<char> buffer;
@@ -469,9 +470,6 @@ struct RigLink::State {
   void EndReading(const std::string& message) {
     if (ended) return;
     ended = true;
-    // Before the end is published: a consumer that NextEvent has told "closed" finds closed()
-    // true (it was set only after the transport closed, so it could still read false).
-    reading_ended = true;
     try {
       splitter.Finish();
     } catch (const std::exception&) {
@@ -481,7 +479,8 @@ struct RigLink::State {
       std::lock_guard<std::mutex> lock(counts_mutex);
       counts = splitter.counts();
     }
-    Publish();
+    Publish();  // the last events: handlers' replies to them are still deferred and written
+    closed = true;
     {
       std::lock_guard<std::mutex> lock(queue_mutex);
       queue_closed = true;
@@ -496,7 +495,6 @@ struct RigLink::State {
       writes_stopped = true;
       transport->Close();
     }
-    closed = true;
     if (!queue_mode && on_close) {
       try {
         on_close(message);
@@ -508,7 +506,7 @@ struct RigLink::State {
 
   // Called with write_mutex held (`lock`), which it releases before throwing.
   void Write(std::string line, std::unique_lock<std::mutex>& lock) {
-    if (writes_stopped || closed || reading_ended) {  // the link is ending: as after it ended
+    if (writes_stopped || closed) {
       lock.unlock();
       throw LinkError(StoppedText());
     }
@@ -626,7 +624,7 @@ void RigLink::Close() {
   }
 }
 
-bool RigLink::closed() const { return state_->reading_ended || state_->closed; }
+bool RigLink::closed() const { return state_->closed; }
 
 RigStreamCounts RigLink::counts() const {
   std::lock_guard<std::mutex> lock(state_->counts_mutex);
