@@ -31,21 +31,36 @@ std::string_view StructureName(Structure s) {
   return "?";
 }
 
-Structure ParseStructure(std::string_view name) {
+namespace {
+
+// "fopdt, sopdt, underdamped, integrating, sopdt-zero", from AllStructures().
+std::string NameList() {
+  std::string list;
+  for (Structure s : AllStructures())
+    list += (list.empty() ? "" : ", ") + std::string(StructureName(s));
+  return list;
+}
+
+bool Known(std::string_view name, Structure* found) {
   for (Structure s : AllStructures()) {
-    if (StructureName(s) == name) return s;
+    if (StructureName(s) != name) continue;
+    if (found) *found = s;
+    return true;
   }
-  throw UsageError("structure '" + std::string(name) +
-                   "': expected one of fopdt, sopdt, underdamped, integrating, sopdt-zero");
+  return false;
+}
+
+}  // namespace
+
+Structure ParseStructure(std::string_view name) {
+  Structure s{};
+  if (Known(name, &s)) return s;
+  throw UsageError("structure '" + std::string(name) + "': expected one of " + NameList());
 }
 
 void CheckStructureChoice(std::string_view name) {
-  if (name == "auto") return;
-  for (Structure s : AllStructures()) {
-    if (StructureName(s) == name) return;
-  }
-  throw UsageError("structure '" + std::string(name) +
-                   "': expected auto or one of fopdt, sopdt, underdamped, integrating, sopdt-zero");
+  if (name == "auto" || Known(name, nullptr)) return;
+  throw UsageError("structure '" + std::string(name) + "': expected auto or one of " + NameList());
 }
 
 std::vector<std::string> ParameterNames(Structure s) {
