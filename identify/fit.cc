@@ -293,25 +293,21 @@ int ChooseCandidate(std::vector<Candidate>& candidates, const SelectionOptions& 
     c.smallest = static_cast<int>(i) == sel.smallest;
     c.chosen = static_cast<int>(i) == sel.chosen;
   }
-  if (sel.chosen != sel.smallest &&
-      candidates[static_cast<size_t>(sel.chosen)].free_parameters ==
-          candidates[static_cast<size_t>(sel.smallest)].free_parameters) {
+  if (sel.chosen != sel.smallest) {
     const Candidate& a = candidates[static_cast<size_t>(sel.chosen)];
     const Candidate& b = candidates[static_cast<size_t>(sel.smallest)];
+    const std::string b_name(StructureName(b.structure));
     note = std::string(StructureName(a.structure)) + " is chosen: within delta AICc " +
-           Num(options.support_width) + " of the smallest (" +
-           std::string(StructureName(b.structure)) + ", delta " + Num(a.delta_aicc) +
-           ") with as many parameters, and the data determine its parameters while " +
-           std::string(StructureName(b.structure)) + "'s are not (" + b.undetermined + ")";
-  } else if (sel.chosen != sel.smallest) {
-    const Candidate& a = candidates[static_cast<size_t>(sel.chosen)];
-    const Candidate& b = candidates[static_cast<size_t>(sel.smallest)];
-    note = std::string(StructureName(a.structure)) + " is chosen: within delta AICc " +
-           Num(options.support_width) + " of the smallest (" +
-           std::string(StructureName(b.structure)) + ", delta " + Num(a.delta_aicc) +
-           ") it has the fewest parameters (" + std::to_string(a.free_parameters) + " against " +
-           std::to_string(b.free_parameters) +
-           "), and a difference that small is no evidence for the larger structure";
+           Num(options.support_width) + " of the smallest (" + b_name + ", delta " +
+           Num(a.delta_aicc) + ") ";
+    if (a.free_parameters == b.free_parameters) {
+      note += "with as many parameters, and the data determine its parameters while " + b_name +
+              "'s are not (" + b.undetermined + ")";
+    } else {
+      note += "it has the fewest parameters (" + std::to_string(a.free_parameters) + " against " +
+              std::to_string(b.free_parameters) +
+              "), and a difference that small is no evidence for the larger structure";
+    }
   }
   return sel.chosen;
 }
