@@ -149,10 +149,10 @@ class Builder {
       gain.paragraphs.push_back(
           "Recommended gain K = " + Text(doc.value("recommended_gain", json())) + ".");
     }
-    if (doc.contains("recommendation") && !doc["recommendation"].value("from", json()).is_null())
-      gain.paragraphs.push_back("Rule: " + Text(doc["recommendation"].value("rule", json())) +
-                                " (from the " + Text(doc["recommendation"].value("from", json())) +
-                                " band).");
+    const json from =
+        doc.contains("recommendation") ? doc["recommendation"].value("from", json()) : json();
+    if (!from.is_null())
+      gain.paragraphs.push_back("Rule: " + Text(rule) + " (from the " + Text(from) + " band).");
     sections_.push_back(gain);
   }
 
