@@ -95,7 +95,7 @@ bool CeresCovariance(ceres::CostFunction* cost, const std::vector<double>& x_in,
 }
 
 std::string DescribeRankDeficiency(const Eigen::MatrixXd& jtj, const std::vector<bool>& fixed,
-                                   const std::vector<std::string>& names) {
+                                   const std::vector<std::string>& names, double min_ratio) {
   std::vector<int> free_idx;
   for (int i = 0; i < static_cast<int>(fixed.size()); ++i) {
     if (!fixed[i]) free_idx.push_back(i);
@@ -118,7 +118,7 @@ std::string DescribeRankDeficiency(const Eigen::MatrixXd& jtj, const std::vector
   Eigen::MatrixXd ns = scale.asDiagonal().inverse() * n * scale.asDiagonal().inverse();
   Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(ns);
   const double ratio = eig.eigenvalues()[0] / std::max(eig.eigenvalues()[m - 1], 1e-300);
-  if (ratio >= 1e-12) return "";
+  if (ratio >= min_ratio) return "";
   Eigen::VectorXd null_dir = eig.eigenvectors().col(0);
   const double top = null_dir.cwiseAbs().maxCoeff();
   std::vector<std::string> culprits;

@@ -51,10 +51,12 @@ bool CeresCovariance(ceres::CostFunction* cost, const std::vector<double>& x,
                      const std::vector<bool>& fixed, Eigen::MatrixXd& covariance);
 
 // Empty when the column-scaled J'J of the free parameters is well conditioned (reciprocal
-// condition >= 1e-12); otherwise a sentence naming the parameter(s) dominating its null
+// condition >= min_ratio); otherwise a sentence naming the parameter(s) dominating its null
 // direction, e.g. "the data cannot determine time_constant_2 and dead_time separately (...)".
+// With min_ratio = +inf it always names the weakest direction (for a matrix Ceres' own,
+// unscaled test already found rank-deficient).
 std::string DescribeRankDeficiency(const Eigen::MatrixXd& jtj, const std::vector<bool>& fixed,
-                                   const std::vector<std::string>& names);
+                                   const std::vector<std::string>& names, double min_ratio = 1e-12);
 
 }  // namespace lw
 

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <chrono>
 #include <cmath>
+#include <limits>
 #include <sstream>
 
 #include <ceres/ceres.h>
@@ -601,7 +602,10 @@ void CovarianceFromNormal(const OutputErrorProblem& problem, const std::vector<b
       for (int b = 0; b < m; ++b) report.covariance(free[a], free[b]) = unscaled(a, b) * s2;
     }
   } else {
-    report.rank_deficiency = "the covariance is rank-deficient (Ceres dense SVD)";
+    // Ceres' test is on the unscaled matrix: name its weakest direction all the same.
+    report.rank_deficiency = DescribeRankDeficiency(jtj, fixed, FullParameterNames(s),
+                                                    std::numeric_limits<double>::infinity()) +
+                             "; Ceres' dense SVD finds the covariance rank-deficient";
   }
 }
 
