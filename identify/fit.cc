@@ -528,7 +528,7 @@ Identification Identify(const StepRecording& recording, const FitOptions& option
     for (Structure s : AllStructures()) {
       Candidate c;
       c.structure = s;
-      if (s == Structure::kIntegrating && a.settled) {
+      if (s == Structure::kIntegrating && a.settled && a.input_away) {
         c.note = "not tried: the response settles";
         id.candidates.push_back(c);
         fits.emplace_back();

@@ -124,7 +124,11 @@ struct Candidate {
 struct Identification {
   FitResult model;  // the chosen (or requested) structure's fit
   bool automatic = false;
-  std::vector<Candidate> candidates;  // `auto` only, in AllStructures() order
+  // `auto` only, in AllStructures() order. integrating is not tried when the output settles
+  // while the input stays away from its baseline (RecordingAnalysis::input_away): an
+  // integrator would still be ramping there. After a pulse that returns the input to its
+  // baseline an integrator's output settles too, so it is tried.
+  std::vector<Candidate> candidates;
   std::string criterion = "AICc";
   SelectionOptions selection;         // `auto`: the rule the choice followed
   std::string selection_note;         // `auto`: why the chosen is not the smallest AICc, or empty

@@ -9,6 +9,10 @@
 //   baseline      means of u and y over the samples before the first step
 //   settled       over the last 20 % of the record the fitted straight line moves the output by
 //                 less than 2 % of the first step's change plus 3 noise sd (common practice)
+//   input away    the input's mean over those last 20 % differs from the baseline by at least a
+//                 quarter of the first step (the step threshold): then a settled output rules
+//                 out an integrating process, which would still be ramping; an input back at
+//                 its baseline (a pulse) leaves an integrator's output settled at a new level
 //   clipped       after the step the output sits exactly at its maximum (or minimum) for a run
 //                 of samples while the baseline is noisy: the sensor or converter saturated
 #ifndef LOOPWRIGHT_IDENTIFY_STEP_DETECTION_H_
@@ -28,11 +32,13 @@ struct RecordingAnalysis {
   double input_change = 0.0;     // first step: mean input after it minus the baseline
   double output_change = 0.0;    // first step: settled output minus the baseline
   double output_final = 0.0;     // mean output over the end of the first step's segment
+  double input_final = 0.0;      // mean input over the last 20 % of the record
   double output_noise_sd = 0.0;
   double sample_period = 0.0;  // median interval, s
   double min_interval = 0.0, max_interval = 0.0;
   bool uniform = true;  // every interval within 1e-6 of the mean
   bool settled = true;
+  bool input_away = true;  // see above
   size_t clipped_samples = 0;  // longest flat run at an extreme (0 when none)
   double clipped_level = 0.0;
   double clipped_from = 0.0;  // s
