@@ -76,12 +76,16 @@ void Bounds(Structure s, double h, double d, std::vector<double>& lo, std::vecto
 struct Prepared {
   std::vector<double> t_own, v, y_own, w;
   std::span<const double> t, y;
+  // The model starts at rest at the baseline: the zero state with zero input deviation before
+  // t[0]. (At rest for the first sample's input instead would start a noisy input's model a
+  // noise sample off the baseline, a transient the offset and dead time would absorb.)
   OutputErrorProblem problem() const {
     OutputErrorProblem pb;
     pb.t = t;
     pb.v = v;
     pb.y = y;
     pb.weight = w;
+    pb.zero_initial = true;
     return pb;
   }
 };
@@ -181,7 +185,6 @@ struct ReducedProblem {
       : data(block > 1 ? Reduce(rec, a, block) : Prepare(rec, a.input_baseline)),
         problem(data.problem()) {
     problem.structure = s;
-    problem.zero_initial = block > 1;
   }
 };
 

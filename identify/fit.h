@@ -4,7 +4,9 @@
 // (any shape: one step, several, a PRBS) by the response kernel (response_kernel.h) and Ceres
 // minimises the squared difference to the recorded output over the structure's parameters, an
 // output offset and, for `integrating`, an output drift (an input offset the baseline missed).
-// The input baseline is the mean of the samples before the first step. The dead time is a
+// The input baseline is the mean of the samples before the first step, and the model starts at
+// rest there (the input deviation is zero before the first sample, whatever noise the first
+// sample's input carries). The dead time is a
 // continuous parameter (fractional samples). Bounds keep parameters physical: time constants in
 // [h/1000, 1000 D], 0.001 <= zeta <= 1, wn in [0.001/D, pi/h], 0 <= T <= 0.9 D, |tauz| <= 1000 D
 // (h the median sample period, D the record length).
