@@ -39,9 +39,13 @@ struct Track {
   std::vector<std::optional<ParameterChange>> changes;  // [0] always empty
 };
 
-std::string Interval(const EstimateSummary& e) {
-  if (!std::isfinite(e.ci_low) || !std::isfinite(e.ci_high)) return "not determined";
-  return FormatNumber(e.ci_low) + " ... " + FormatNumber(e.ci_high);
+// The value and 95 % interval columns, as fit prints them.
+std::vector<std::string> ValueAndInterval(const EstimateSummary& e) {
+  if (!std::isfinite(e.ci_low) || !std::isfinite(e.ci_high)) {
+    return {FormatNumber(e.value), "undetermined"};
+  }
+  const EstimateText text = FormatEstimate(e.value, e.ci_low, e.ci_high);
+  return {text.value, text.low + " .. " + text.high};
 }
 
 std::string RecordingNames(const LoggedResult& r) {
@@ -190,7 +194,8 @@ class DriftCommand : public Command {
       TextTable table({"fit", "value", "95 % interval", "change", "z", "verdict"});
       for (size_t i = 0; i < t.estimates.size(); ++i) {
         const EstimateSummary& e = t.estimates[i];
-        std::vector<std::string> row = {std::to_string(i + 1), FormatNumber(e.value), Interval(e)};
+        std::vector<std::string> row = ValueAndInterval(e);
+        row.insert(row.begin(), std::to_string(i + 1));
         if (const auto& c = t.changes[i]) {
           std::string change = (c->change >= 0 ? "+" : "") + FormatNumber(c->change);
           if (std::isfinite(c->change_percent)) {

@@ -179,9 +179,11 @@ void CheckOutputFolder(const std::string& path, const std::string& option) {
   }
 }
 
-std::string Interval(const ParameterEstimate& p) {
-  if (std::isnan(p.ci_low)) return "undetermined";
-  return FormatNumber(p.ci_low) + " .. " + FormatNumber(p.ci_high);
+// The value and 95 % interval columns of one parameter row.
+std::vector<std::string> EstimateRow(const ParameterEstimate& p) {
+  if (std::isnan(p.ci_low)) return {p.name, FormatNumber(p.value), "undetermined", p.unit};
+  const EstimateText text = FormatEstimate(p.value, p.ci_low, p.ci_high);
+  return {p.name, text.value, text.low + " .. " + text.high, p.unit};
 }
 
 class FitCommand : public Command {
@@ -435,15 +437,9 @@ class FitCommand : public Command {
             << " per " << (options.input_unit.empty() ? "input" : options.input_unit)
             << ", times in s\n";
     TextTable table({"parameter", "value", "95 % interval", "unit"});
-    for (const auto& p : m.parameters) {
-      table.AddRow({p.name, FormatNumber(p.value), Interval(p), p.unit});
-    }
-    table.AddRow({m.output_offset.name, FormatNumber(m.output_offset.value),
-                  Interval(m.output_offset), m.output_offset.unit});
-    if (m.output_drift) {
-      table.AddRow({m.output_drift->name, FormatNumber(m.output_drift->value),
-                    Interval(*m.output_drift), m.output_drift->unit});
-    }
+    for (const auto& p : m.parameters) table.AddRow(EstimateRow(p));
+    table.AddRow(EstimateRow(m.output_offset));
+    if (m.output_drift) table.AddRow(EstimateRow(*m.output_drift));
     table.Print(ctx.out);
     KeyValueList kv;
     kv.Add("fit", FormatNumber(m.fit_percent) + " %");

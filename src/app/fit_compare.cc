@@ -60,9 +60,13 @@ json EstimateJson(const EstimateSummary& e) {
           {"se", JsonNumber(e.se)}};
 }
 
-std::string IntervalText(const EstimateSummary& e) {
-  if (!std::isfinite(e.ci_low) || !std::isfinite(e.ci_high)) return "n/a";
-  return FormatNumber(e.ci_low, 4) + " .. " + FormatNumber(e.ci_high, 4);
+// The value and 95 % interval columns, as fit prints them.
+std::vector<SummaryCell> ValueAndInterval(const EstimateSummary& e) {
+  if (!std::isfinite(e.ci_low) || !std::isfinite(e.ci_high)) {
+    return {SummaryCell(FormatNumber(e.value)), SummaryCell("undetermined")};
+  }
+  const EstimateText text = FormatEstimate(e.value, e.ci_low, e.ci_high);
+  return {SummaryCell(text.value), SummaryCell(text.low + " .. " + text.high)};
 }
 
 // The set Recommend() draws from, by its documented priority.
@@ -286,10 +290,10 @@ void PrintComparison(const Context& ctx, const ModelComparison& c) {
                               ? (*p.significant ? SummaryCell("changed", CellMark::kCaution)
                                                 : SummaryCell("same", CellMark::kOk))
                               : SummaryCell("unknown");
-    t.AddRow({p.name + (p.unit.empty() || p.unit == "-" ? "" : " [" + p.unit + "]"),
-              FormatNumber(p.before.value, 4), IntervalText(p.before),
-              FormatNumber(p.after.value, 4), IntervalText(p.after), change, FormatNumber(p.z, 3),
-              verdict});
+    const std::vector<SummaryCell> before = ValueAndInterval(p.before);
+    const std::vector<SummaryCell> after = ValueAndInterval(p.after);
+    t.AddRow({p.name + (p.unit.empty() || p.unit == "-" ? "" : " [" + p.unit + "]"), before[0],
+              before[1], after[0], after[1], change, FormatNumber(p.z, 3), verdict});
   }
   t.Print(ctx);
   if (!c.only_old.empty() || !c.only_new.empty()) {

@@ -13,12 +13,13 @@ namespace lw::app {
 
 namespace {
 
-std::string EstimateText(const ParameterEstimate& p) {
-  std::string s = p.name + " = " + FormatNumber(p.value);
-  if (std::isfinite(p.ci_low) && std::isfinite(p.ci_high))
-    s += " [" + FormatNumber(p.ci_low) + ", " + FormatNumber(p.ci_high) + "]";
-  if (!p.unit.empty()) s += " " + p.unit;
-  return s;
+std::string CaptionText(const ParameterEstimate& p) {
+  if (!std::isfinite(p.ci_low) || !std::isfinite(p.ci_high)) {
+    return p.name + " = " + FormatQuantity(p.value, p.unit);
+  }
+  const EstimateText text = FormatEstimate(p.value, p.ci_low, p.ci_high);
+  return p.name + " = " + text.value + " [" + text.low + ", " + text.high + "]" +
+         (p.unit.empty() ? "" : " " + p.unit);
 }
 
 }  // namespace
@@ -55,7 +56,7 @@ void WriteFitPlot(const std::string& path, const std::string& recording_name,
       line.clear();
       on_line = 0;
     }
-    line += (line.empty() ? "" : "    ") + EstimateText(p);
+    line += (line.empty() ? "" : "    ") + CaptionText(p);
     ++on_line;
   }
   if (!line.empty()) d.caption.push_back(line);

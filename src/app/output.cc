@@ -68,6 +68,16 @@ std::string FormatNumber(double v, int significant) {
   return s;
 }
 
+EstimateText FormatEstimate(double value, double low, double high, int significant) {
+  EstimateText text;
+  for (int digits = std::clamp(significant, 1, 17);; ++digits) {
+    text = {FormatNumber(value, digits), FormatNumber(low, digits), FormatNumber(high, digits)};
+    const bool low_ok = !(low < value) || text.low != text.value;
+    const bool high_ok = !(value < high) || text.high != text.value;
+    if ((low_ok && high_ok) || digits >= std::max(10, significant)) return text;
+  }
+}
+
 std::string FormatQuantity(double v, std::string_view unit, int significant) {
   std::string s = FormatNumber(v, significant);
   if (!unit.empty()) s += " " + std::string(unit);

@@ -23,6 +23,15 @@ namespace lw::app {
 // infinities -> "inf" / "-inf". significant is clamped to 1..17.
 std::string FormatNumber(double v, int significant = 4);
 
+// An estimate and its interval, low <= value <= high, as text: each with `significant` digits, or
+// with as many more (up to 10) as it takes for two of them that differ to read differently, so
+// an interval never prints with zero width: 101325 with 101324.96 .. 101325.04 reads
+// "101325", "101324.96", "101325.04" instead of "101325" three times. NaN bounds print "n/a".
+struct EstimateText {
+  std::string value, low, high;
+};
+EstimateText FormatEstimate(double value, double low, double high, int significant = 4);
+
 // FormatNumber followed by a space and the unit when the unit is not empty: "3.2 s".
 std::string FormatQuantity(double v, std::string_view unit, int significant = 4);
 

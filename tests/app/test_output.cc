@@ -28,6 +28,33 @@ TEST_CASE("FormatNumber keeps the asked significant digits without trailing zero
   CHECK(FormatQuantity(7.0, "") == "7");
 }
 
+TEST_CASE("FormatEstimate adds digits until an interval has width") {
+  // 4 digits suffice: nothing changes.
+  EstimateText a = FormatEstimate(2.599, 2.597, 2.602);
+  CHECK(a.value == "2.599");
+  CHECK(a.low == "2.597");
+  CHECK(a.high == "2.602");
+  // A large offset with a narrow interval: 4 digits would print 143 three times.
+  EstimateText b = FormatEstimate(143.0012, 142.98, 143.0224);
+  CHECK(b.value == "143");
+  CHECK(b.low == "142.98");
+  CHECK(b.high == "143.02");
+  EstimateText c = FormatEstimate(101325.03, 101324.96, 101325.1);
+  // 7 digits still read 101325 twice (101324.96 rounds to 101325.0): 8 are needed.
+  CHECK(c.value == "101325.03");
+  CHECK(c.low == "101324.96");
+  CHECK(c.high == "101325.1");
+  // Equal bounds stay equal (a held parameter), and NaN bounds do not add digits.
+  EstimateText d = FormatEstimate(1.0 / 3.0, 1.0 / 3.0, 1.0 / 3.0);
+  CHECK(d.value == "0.3333");
+  EstimateText e = FormatEstimate(1.0 / 3.0, std::nan(""), std::nan(""));
+  CHECK(e.value == "0.3333");
+  CHECK(e.low == "n/a");
+  // At most 10 digits, whatever the bounds.
+  EstimateText f = FormatEstimate(1.0, std::nextafter(1.0, 0.0), std::nextafter(1.0, 2.0));
+  CHECK(f.value == "1");
+}
+
 TEST_CASE("JsonNumber turns non-finite values into null") {
   CHECK(JsonNumber(1.5).get<double>() == 1.5);
   CHECK(JsonNumber(std::nan("")).is_null());
