@@ -8,6 +8,7 @@
 #include <sstream>
 
 #include <ceres/loss_function.h>
+#include <boost/math/distributions/normal.hpp>
 #include <boost/math/distributions/students_t.hpp>
 
 #include "identify/order_statistic.h"
@@ -237,6 +238,15 @@ FitResult SeedFit(Structure s, const StepRecording& rec, const RecordingAnalysis
 
 }  // namespace
 
+double OutlierThreshold(size_t n) {
+  if (n == 0) return 5.0;
+  // Two-sided: P(|e| > z sd) = 0.01 / n for one Gaussian residual.
+  boost::math::normal dist;
+  const double z =
+      boost::math::quantile(boost::math::complement(dist, 0.005 / static_cast<double>(n)));
+  return std::max(5.0, z);
+}
+
 double StudentQuantile(double p, double dof) {
   if (!(dof >= 1.0)) return std::numeric_limits<double>::quiet_NaN();
   boost::math::students_t dist(dof);
@@ -431,18 +441,22 @@ FitResult FitStructure(Structure s, const StepRecording& rec, const RecordingAna
   }
   if (options.robust == FitOptions::Robust::kNone) {
     const double sd = 1.4826 * MedianAbs(r);
+    const double z = OutlierThreshold(n);
     size_t outliers = 0;
     double first_t = 0.0;
     for (size_t k = 0; k < n; ++k) {
-      if (sd > 0.0 && std::abs(r[k]) > 5.0 * sd) {
+      if (sd > 0.0 && std::abs(r[k]) > z * sd) {
         if (!outliers) first_t = rec.t[k];
         ++outliers;
       }
     }
-    if (outliers) {
-      fit.warnings.push_back(std::to_string(outliers) +
-                             " outliers (residual beyond 5 robust sd), the first at t = " +
-                             Num(first_t) + " s; consider --robust");
+    if (outliers == 1) {
+      fit.warnings.push_back("1 outlier (residual beyond " + Num(z) +
+                             " robust sd) at t = " + Num(first_t) + " s; consider --robust");
+    } else if (outliers > 1) {
+      fit.warnings.push_back(std::to_string(outliers) + " outliers (residuals beyond " + Num(z) +
+                             " robust sd), the first at t = " + Num(first_t) +
+                             " s; consider --robust");
     }
   }
   fit.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - begin).count();
