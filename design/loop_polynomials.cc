@@ -3,6 +3,7 @@
 #include <cmath>
 
 #include "lti/error.h"
+#include "lti/number_text.h"
 #include "lti/pade.h"
 
 namespace lw {
@@ -43,6 +44,56 @@ LoopPolynomials LoopPolynomials::ForPiZero(const TransferFunction& plant, double
   lp.pade_order = plant.delay() > 0.0 ? pade_order : 0;
   lp.delay = plant.delay();
   return lp;
+}
+
+namespace {
+
+// The plant at low frequency: "G(0) = -1.5", or "G(s) -> -0.8/s as s -> 0" with poles at the
+// origin (the lowest nonzero coefficients of numerator and denominator).
+std::string LowFrequencyText(const TransferFunction& g) {
+  auto lowest = [](const Polynomial& p, int& power) {
+    const auto& c = p.coefficients();  // descending
+    for (size_t i = c.size(); i-- > 0;) {
+      if (c[i] != 0.0) {
+        power = static_cast<int>(c.size() - 1 - i);
+        return c[i];
+      }
+    }
+    power = 0;
+    return 0.0;
+  };
+  int pn = 0, pd = 0;
+  const double ratio = lowest(g.num(), pn) / lowest(g.den(), pd);
+  const int k = pd - pn;
+  if (k == 0) return "G(0) = " + SignificantText(ratio, 4);
+  std::string text = "G(s) -> " + SignificantText(ratio, 4) + "/s";
+  if (k != 1) {
+    text += '^';
+    text += std::to_string(k);
+  }
+  text += " as s -> 0";
+  return text;
+}
+
+}  // namespace
+
+std::string PositiveFeedbackNote(const LoopPolynomials& loop, const TransferFunction& plant) {
+  if (loop.LowFrequencySign() > 0) return "";
+  return "the plant's gain is negative (" + LowFrequencyText(plant) +
+         "), so every controller gain K > 0 feeds back positively and drives y away from r; "
+         "loopwright designs loops where K > 0 is negative feedback: turn the sign at the rig "
+         "(the actuator's or the measurement's direction) and record the step test again";
+}
+
+int LoopPolynomials::LowFrequencySign() const {
+  auto lowest = [](const Polynomial& p) {
+    const auto& c = p.coefficients();
+    for (size_t i = c.size(); i-- > 0;) {
+      if (c[i] != 0.0) return c[i];
+    }
+    return 0.0;
+  };
+  return lowest(b) * lowest(a) < 0.0 ? -1 : 1;
 }
 
 double LoopPolynomials::FrequencyScale() const {

@@ -16,6 +16,7 @@
 #define LOOPWRIGHT_DESIGN_LOOP_POLYNOMIALS_H_
 
 #include <complex>
+#include <string>
 #include <vector>
 
 #include "lti/controller.h"
@@ -48,7 +49,17 @@ struct LoopPolynomials {
   // (Vieta: the nonzero roots of c_0 s^n + ... + c_k s^(n-k), c_k the lowest nonzero
   // coefficient, multiply to |c_k / c_0| in magnitude), so no roots are solved for.
   double FrequencyScale() const;
+  // The sign of b(s)/a(s) as s -> 0+, from their lowest nonzero coefficients (a Padé factor is 1
+  // there): +1 when a gain K > 0 closes a negative feedback loop at low frequency, -1 when the
+  // plant (a reverse-acting process: more actuator, less output) or the controller shape
+  // reverses it, so that every K > 0 feeds back positively and drives y away from r.
+  int LowFrequencySign() const;
 };
+
+// Empty when loop.LowFrequencySign() > 0; otherwise one sentence saying that no gain K > 0 can
+// be designed for it, naming the plant's low-frequency gain ("G(0) = -1.5", or
+// "G(s) -> -0.8/s as s -> 0"). A band of such a loop would be a band of positive feedback.
+std::string PositiveFeedbackNote(const LoopPolynomials& loop, const TransferFunction& plant);
 
 }  // namespace lw
 

@@ -103,6 +103,21 @@ Prediction Predict(const TransferFunction& plant, const Controller& controller, 
     }
   }
   p.metrics = MeasureStep(p.t, p.y, t_step, mo, options.reference_to, p.u);
+  if (!p.stable) {
+    // A diverging record has no rise, overshoot, peak or settling: what MeasureStep finds in
+    // it depends only on where the record stops.
+    const double nan = std::numeric_limits<double>::quiet_NaN();
+    p.metrics.rise_time = p.metrics.overshoot_percent = p.metrics.settling_time = nan;
+    p.metrics.peak_time = nan;
+    p.metrics.has_peak = false;
+    p.metrics.no_peak =
+        "no peak: the closed loop is unstable, so its response has no rise, peak or settling time";
+  }
+  if (loop.LowFrequencySign() < 0) {
+    p.direction_warning =
+        "the loop gain is negative at low frequency (a reverse-acting plant: more actuator, less "
+        "output), so every K > 0 feeds back positively and drives y away from r";
+  }
   auto [mn, mx] = std::minmax_element(p.u.begin(), p.u.end());
   p.actuator_min = *mn;
   p.actuator_max = *mx;

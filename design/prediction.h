@@ -11,7 +11,9 @@
 //                      shape G); NaN when the loop is unstable
 //   step response      simulated with the exact dead time (lti/simulate.h), the loop at rest at
 //                      the reference's initial level; metrics by lti/step_metrics.h, whose
-//                      has_peak / no_peak say whether the response has a peak to time
+//                      has_peak / no_peak say whether the response has a peak to time; for an
+//                      unstable loop rise time, overshoot, peak and settling time are NaN (a
+//                      diverging record has none; what it would show depends on its length)
 //   peak actuator      largest |u| after the step; a warning when u leaves [actuator_lo,
 //                      actuator_hi]
 #ifndef LOOPWRIGHT_DESIGN_PREDICTION_H_
@@ -58,6 +60,8 @@ struct Prediction {
   bool actuator_exceeded = false;
   double actuator_min = 0.0, actuator_max = 0.0;  // over the record
   std::string actuator_warning;                   // one sentence when exceeded
+  // One sentence when LoopPolynomials::LowFrequencySign() < 0 (K > 0 is positive feedback).
+  std::string direction_warning;
 };
 
 Prediction Predict(const TransferFunction& plant, const Controller& controller, double gain,

@@ -197,6 +197,7 @@ class BandCommand : public Command {
     const TransferFunction& plant = model.tf;
     const Region region = specs.ToRegion();
     LoopPolynomials loop = LoopPolynomials::ForGain(plant, controller, pade);
+    if (std::string why = PositiveFeedbackNote(loop, plant); !why.empty()) throw JobFailed(why);
     LocusBand locus = FindLocusBand(loop, region);
     ResponseBandOptions ro;
     ro.pade_order = pade;

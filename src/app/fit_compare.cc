@@ -162,6 +162,10 @@ BandRecheck RecheckBand(const BandFile& band, const FitResult& fresh,
   rc.old = band;
   const Region region = band.specs.ToRegion();
   LoopPolynomials loop = LoopPolynomials::ForGain(fresh.tf, band.controller, band.pade_order);
+  rc.gain_in_use = gain_in_use ? *gain_in_use : band.recommended_gain;
+  rc.gain_source = gain_in_use ? "--gain" : "the old band's recommended gain";
+  rc.infeasible = PositiveFeedbackNote(loop, fresh.tf);
+  if (!rc.infeasible.empty()) return rc;  // no bands: every K > 0 is positive feedback now
   rc.locus = FindLocusBand(loop, region).gains();
   ResponseBandOptions ro;
   ro.pade_order = band.pade_order;
@@ -183,8 +187,6 @@ BandRecheck RecheckBand(const BandFile& band, const FitResult& fresh,
     rc.infeasible = DiagnoseInfeasible(loop, region).sentence;
   }
   rc.recommendation = Recommend(rc.locus, rc.response, rc.robust);
-  rc.gain_in_use = gain_in_use ? *gain_in_use : band.recommended_gain;
-  rc.gain_source = gain_in_use ? "--gain" : "the old band's recommended gain";
   rc.inside_locus = Contains(rc.locus, rc.gain_in_use);
   rc.inside_response = Contains(rc.response, rc.gain_in_use);
   if (rc.robust) rc.inside_robust = Contains(*rc.robust, rc.gain_in_use);

@@ -80,7 +80,7 @@ EstimateText FormatEstimate(double value, double low, double high, int significa
 
 std::string FormatQuantity(double v, std::string_view unit, int significant) {
   std::string s = FormatNumber(v, significant);
-  if (!unit.empty()) s += " " + std::string(unit);
+  if (!unit.empty() && !std::isnan(v)) s += " " + std::string(unit);
   return s;
 }
 

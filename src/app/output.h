@@ -32,7 +32,8 @@ struct EstimateText {
 };
 EstimateText FormatEstimate(double value, double low, double high, int significant = 4);
 
-// FormatNumber followed by a space and the unit when the unit is not empty: "3.2 s".
+// FormatNumber followed by a space and the unit when the unit is not empty: "3.2 s"; NaN is
+// "n/a" alone.
 std::string FormatQuantity(double v, std::string_view unit, int significant = 4);
 
 // A JSON number, or null when v is NaN or infinite (JSON has no such numbers).

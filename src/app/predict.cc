@@ -156,6 +156,7 @@ class PredictCommand : public Command {
     Prediction p = Predict(model.tf, controller, gain, o);
     if (p.actuator_exceeded) Warn(ctx, p.actuator_warning);
     if (!p.stable) Warn(ctx, "the closed loop is unstable at K = " + FormatNumber(gain, 4));
+    if (!p.direction_warning.empty()) Warn(ctx, p.direction_warning);
     json doc = PredictionJson(p, controller, model, ref);
     if (overshoot_max_) doc["overshoot_limit_percent"] = *overshoot_max_;
 
@@ -240,7 +241,9 @@ class PredictCommand : public Command {
     } else {
       t.AddRow({"overshoot", FormatQuantity(m.overshoot_percent, "%")});
     }
-    t.AddRow({"peak time", m.has_peak ? FormatQuantity(m.peak_time, "s") : "no peak"});
+    t.AddRow({"peak time", !p.stable    ? "n/a"
+                           : m.has_peak ? FormatQuantity(m.peak_time, "s")
+                                        : "no peak"});
     t.AddRow({"settling time (" + FormatNumber(100 * o.settle_band) + " %)",
               FormatQuantity(m.settling_time, "s")});
     t.AddRow({"steady-state error", FormatNumber(p.steady_state_error, 4)});

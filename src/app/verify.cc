@@ -20,6 +20,7 @@
 #include "app/rig_phases.h"
 #include "app/run_command.h"
 #include "app/stop_signal.h"
+#include "design/loop_polynomials.h"
 #include "design/prediction.h"
 #include "io/model_file.h"
 #include "lti/error.h"
@@ -66,6 +67,10 @@ class VerifyCommand : public Command {
     const Controller controller = controller_.Parse();
     const double gain = controller_.gain();
     auto [a, b] = ParseRefStep(ref_step_);
+    // A reverse-acting model: closing the loop at K > 0 would run away; refuse before anything
+    // moves.
+    const LoopPolynomials loop = LoopPolynomials::ForGain(model.tf, controller, 3);
+    if (std::string why = PositiveFeedbackNote(loop, model.tf); !why.empty()) throw JobFailed(why);
     PhaseTiming timing;
     timing.settle_s = ParseSettle(settle_);
     timing.max_wait_s = max_wait_;

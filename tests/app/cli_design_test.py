@@ -321,6 +321,64 @@ def case_unbounded_band():
           and resp[0][1] is None, f"response band [4.390, inf) (got {resp!r})")
 
 
+def case_reverse_acting():
+    # A reverse-acting plant (more actuator, less output): with u = K (r - y) and K > 0 the loop
+    # 1 + K G is positive feedback at low frequency. For -2/(s + 1) under P control the closed
+    # loop is stable for K < 1/2 (pole at s = -1 + 2K) but its output settles at
+    # -2K/(1 - 2K) of the step, the wrong way, so no K > 0 may be offered as a band.
+    out_file = path("reverse_band.json")
+    for plant, said in (("-2/(s+1)", "G(0) = -2"),
+                        ("-0.8*exp(-1.3*s)/(s*(4*s+1))", "G(s) -> -0.8/s as s -> 0"),
+                        ("-1.5*(-8*s+1)*exp(-2*s)/((20*s+1)*(5*s+1))", "G(0) = -1.5")):
+        code, out, err = run("band", "--plant", plant, "--overshoot-max", "10", "--save", out_file)
+        check(code == 1, f"band of {plant}: exit 1 (got {code}, {err!r})")
+        lines = [l for l in err.splitlines() if l.strip()]
+        check(len(lines) == 1 and said in err and "positively" in err,
+              f"band of {plant}: one sentence naming {said} ({err!r})")
+        check(not os.path.exists(out_file), f"band of {plant}: no band file left")
+    # predict still shows what a gain does, with a warning: K = 1 on -2/(s + 3) puts the pole at
+    # s = -3 + 2 = -1 and y at -2K/(3 - 2K) = -2 of a unit step, an error of 1 - (-2) = 3.
+    code, out, err = run("predict", "--plant", "-2/(s+3)", "--gain", "1", "--json")
+    check(code == 0, f"predict of a reverse-acting plant exits 0 ({err!r})")
+    check("feeds back positively" in err, f"predict warns of positive feedback ({err!r})")
+    doc = json.loads(out)
+    check(close(doc["metrics"]["steady_state_error"], 3.0, 1e-9),
+          f"steady-state error 1 - (-2) = 3 ({doc['metrics']['steady_state_error']!r})")
+    # A model fitted to a reverse-acting step test: verify refuses before it opens the rig (a
+    # closed TCP port here: reaching it would be a link failure, exit 4).
+    rec, model = path("reverse_step.csv"), path("reverse_model.json")
+    code, _, err = run("simulate", "--plant", "-2*exp(-0.5*s)/(3*s+1)", "--input", "step:0:1:2",
+                       "--rate", "10", "--duration", "30", "--noise", "0.01", "-o", rec)
+    check(code == 0, f"simulate the reverse-acting step test ({err!r})")
+    code, _, err = run("fit", rec, "--structure", "fopdt", "-o", model)
+    check(code == 0, f"fit it ({err!r})")
+    code, _, err = run("verify", "--port", "tcp:127.0.0.1:9", model, "--gain", "0.2",
+                       "--ref-step", "0:1", "--yes", "-o", path("cl.csv"))
+    check(code == 1 and "feeds back positively" in err,
+          f"verify refuses a reverse-acting model before driving (exit 1, got {code}: {err!r})")
+    check(not os.path.exists(path("cl.csv")), "verify wrote no recording")
+
+
+def case_unstable_predict():
+    # 2/(s + 1)^3 under P control is unstable for K > 4 (Routh-Hurwitz: s^3 + 3 s^2 + 3 s + 1 + 2K
+    # needs 3 * 3 > 1 + 2K). A diverging record has no rise, overshoot, peak or settling time:
+    # they are n/a in the text and null in JSON, whatever the record's length.
+    code, out, err = run("predict", "--plant", "2/((s+1)^3)", "--gain", "10", "--json")
+    check(code == 0, f"predict of an unstable loop exits 0 ({err!r})")
+    doc = json.loads(out)
+    check(doc["stable"] is False, "the loop is unstable")
+    for key in ("rise_time", "overshoot_percent", "peak_time", "settling_time"):
+        check(doc["metrics"][key] is None, f"{key} is null ({doc['metrics'][key]!r})")
+    check("unstable" in (doc["metrics"]["peak_note"] or ""), "the peak note says why")
+    code, out, err = run("predict", "--plant", "2/((s+1)^3)", "--gain", "3.9")
+    check(code == 0 and "n/a" not in out.split("steady-state")[0],
+          f"just below K = 4 the loop is stable and every metric is a number ({out!r})")
+    code, out, err = run("predict", "--plant", "2/((s+1)^3)", "--gain", "10")
+    for row in ("rise time (10-90 %)", "overshoot", "peak time", "settling time (2 %)"):
+        m = re.search(rf"^\s*{re.escape(row)}\s+(\S+)", out, re.M)
+        check(m is not None and m.group(1) == "n/a", f"{row}: n/a ({m and m.group(1)!r})")
+
+
 def expect_error(label, args, status, pattern, files):
     code, out, err = run(*args)
     check(code == status, f"{label}: exit {status} (got {code}, stderr {err!r})")

@@ -2,13 +2,44 @@
 // Feedback Control of Dynamic Systems, ch. 3; from memory) for a plant of our own.
 #include <cmath>
 #include <numbers>
+#include <string>
 
 #include <doctest/doctest.h>
 
+#include "design/loop_polynomials.h"
 #include "design/prediction.h"
 
 namespace lw {
 namespace {
+
+// The sign of K G(s) C(s) as s -> 0 decides whether K > 0 is negative feedback; the Padé factor
+// of a dead time is 1 there, and an integrator does not change the sign of s -> 0+.
+TEST_CASE("low-frequency sign: direct- and reverse-acting plants, integrating, with dead time") {
+  const Controller p, pi = Controller::Parse("pi:0.1");
+  auto sign = [](const TransferFunction& g, const Controller& c) {
+    return LoopPolynomials::ForGain(g, c, 3).LowFrequencySign();
+  };
+  const TransferFunction direct({2.0}, {1.0, 1.0});
+  const TransferFunction reverse({-2.0}, {1.0, 1.0});
+  const TransferFunction reverse_delay({-2.0}, {1.0, 1.0}, 0.7);
+  const TransferFunction reverse_integrating({-0.8}, {4.0, 1.0, 0.0}, 1.3);
+  const TransferFunction inverse_response({-8.0 * 1.5, 1.5}, {100.0, 25.0, 1.0}, 2.0);
+  CHECK(sign(direct, p) == 1);
+  CHECK(sign(direct, pi) == 1);
+  CHECK(sign(reverse, p) == -1);
+  CHECK(sign(reverse_delay, pi) == -1);
+  CHECK(sign(reverse_integrating, p) == -1);
+  CHECK(sign(inverse_response, p) == 1);  // a right-half-plane zero, positive dc gain
+  CHECK(PositiveFeedbackNote(LoopPolynomials::ForGain(direct, p, 3), direct).empty());
+  const std::string note = PositiveFeedbackNote(LoopPolynomials::ForGain(reverse_integrating, p, 3),
+                                                reverse_integrating);
+  CHECK(note.find("G(s) -> -0.8/s as s -> 0") != std::string::npos);
+  // Predict still answers, and says so.
+  Prediction r = Predict(reverse, p, 0.2);
+  CHECK(r.stable);
+  CHECK(r.direction_warning.find("positively") != std::string::npos);
+  CHECK(Predict(direct, p, 0.2).direction_warning.empty());
+}
 
 TEST_CASE("P control of 2/((s+1)(0.5 s+1)) at K = 3: a pure second-order closed loop") {
   // (s+1)(0.5 s+1) + 6 = 0  <=>  s^2 + 3 s + 14 = 0: wn = sqrt(14), zeta = 3 / (2 sqrt(14)).
