@@ -15,11 +15,16 @@
 //      touch only the written y: the closed loop itself is simulated without them.
 // The noise comes from a 64-bit Mersenne Twister seeded with --seed and a Box-Muller transform
 // written here, so the same seed gives the same file on every platform.
+// A closed loop that is unstable without --saturate limits reached (a closed-loop pole, dead time
+// through Padé order 3, in the right half plane) diverges: the summary says so and gives no step
+// metrics (JSON: metrics null), since a diverging record's "final value" and rise
+// are only where it stopped.
 // With one step in the input (or reference) the summary gives the step's metrics; a response
 // without a peak (lti/step_metrics.h) shows "no peak (why)" as its peak time, and in JSON
 // metrics.peak_time is null and metrics.peak_note the reason (null when there is a peak).
 #include <algorithm>
 #include <cmath>
+#include <complex>
 #include <cstdint>
 #include <optional>
 #include <random>
@@ -31,6 +36,7 @@
 #include "app/controller_option.h"
 #include "app/model_source.h"
 #include "app/output.h"
+#include "design/loop_polynomials.h"
 #include "io/csv_reader.h"
 #include "io/csv_writer.h"
 #include "io/recording.h"
@@ -227,10 +233,18 @@ class SimulateCommand : public Command {
                << " | synthetic data from " << model.description;
     WriteCsv(out_path_, names, columns, provenance.str());
 
+    // An unstable linear loop diverges: no metrics (a saturated one may stay bounded).
+    std::optional<std::complex<double>> unstable;
+    if (closed && !limits_reached) {
+      for (const auto& s :
+           LoopPolynomials::ForGain(model.tf, controller, 3).PolesAt(controller_.gain())) {
+        if (s.real() >= 0.0 && (!unstable || s.real() > unstable->real())) unstable = s;
+      }
+    }
     // Step metrics when the input (or reference) is one step.
     std::optional<StepMetrics> metrics;
     double step_time = 0.0;
-    if (signal.step_times.size() == 1) {
+    if (signal.step_times.size() == 1 && !unstable) {
       step_time = signal.step_times.front();
       size_t after = 0;
       for (double ti : t) after += ti >= step_time ? 1 : 0;
@@ -241,6 +255,14 @@ class SimulateCommand : public Command {
         if (closed) target = r.back();
         metrics = MeasureStep(t, y, step_time, mo, target, u);
       }
+    }
+    if (unstable) {
+      Warn(ctx,
+           "the closed loop is unstable at K = " + FormatNumber(controller_.gain(), 6) +
+               " (a pole at s = " + FormatNumber(unstable->real(), 4) +
+               (unstable->imag() != 0.0 ? " +/- j" + FormatNumber(std::abs(unstable->imag()), 4)
+                                        : std::string()) +
+               "): the record diverges, so it has no step metrics");
     }
     if (json_) {
       PrintJsonSummary(ctx, model, closed, names, limits, limits_reached, metrics, step_time,

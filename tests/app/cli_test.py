@@ -163,6 +163,20 @@ def case_simulate_closed():
     worst = max(abs(row[3] - 2 * (1 - math.exp(-(row[0] - 1) / 3))) for row in rows
                 if 1.0 <= row[0] <= 2.0)
     check(worst < 1e-6, f"clipped loop follows the first-order response (max error {worst:.3g})")
+    # 2/(s + 1)^3 under P control is unstable for K > 4 (Routh-Hurwitz: 3 * 3 > 1 + 2K); at
+    # K = 10 s^3 + 3 s^2 + 3 s + 21 = 0 has the pair 0.3572 +/- j2.351 (numpy.roots). The record
+    # diverges: the file is written, the summary warns and gives no step metrics.
+    code, out, err = run("simulate", "--plant", "2/((s+1)^3)", "--gain", "10", "--reference",
+                         "step:0:1:1", "--rate", "50", "--duration", "30", "-o",
+                         path("unstable.csv"), "--json")
+    check(code == 0 and os.path.exists(path("unstable.csv")), f"unstable loop still simulated ({err})")
+    check("unstable" in err and "0.3572" in err, f"the warning names the pole ({err!r})")
+    check(json.loads(out)["metrics"] is None, "no step metrics for a diverging record")
+    code, out, err = run("simulate", "--plant", "2/((s+1)^3)", "--gain", "3.9", "--reference",
+                         "step:0:1:1", "--rate", "50", "--duration", "60", "-o",
+                         path("stable.csv"), "--json")
+    check(code == 0 and json.loads(out)["metrics"] is not None and "unstable" not in err,
+          f"just below K = 4 the metrics are given ({err!r})")
 
 
 def case_simulate_no_peak():
