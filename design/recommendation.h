@@ -1,16 +1,20 @@
 // The gain the band command recommends, by one documented rule:
 //   take the first non-empty set of
-//     1. robust band AND response band,   2. robust band,
-//     3. locus band AND response band,    4. response band,   5. locus band,
+//     1. robust band AND response band,   2. locus band AND response band,   3. response band,
 //   then its widest range in decades (gain_intervals.h DecadeWidth) and that range's geometric
 //   middle sqrt(lo hi) (GeometricMiddle: a range from 0 gives hi / sqrt(10), an open-ended one
 //   lo sqrt(10)).
-// A widest range of [0, inf) (every gain from 0 up, e.g. a stable first-order plant with no
-// spec beyond stability) recommends nothing: found is false and reason says why.
+// Every set lies inside the response band: a recommended gain's simulated step (exact dead
+// time, the real metrics) meets the specs on the nominal model. The locus and robust bands judge
+// the dominant pole against the second-order region; where the response band misses them the
+// loop does not behave as that region assumes (zeros, a third pole, the dead time), so they
+// narrow the choice but never make it alone. No recommendation (found false, reason says why):
+//   - the response band is empty, although the locus or robust band is not (specs_unmet);
+//   - the widest range is [0, inf): every gain from 0 up meets the specs, e.g. a stable
+//     first-order plant with no spec beyond stability (unbounded).
 // The geometric middle is as far (as a ratio) from either edge, so a gain error by the same factor
 // either way stays inside; the robust band comes first because it already holds for 95 % of the
-// plausible plants, the response band next because it uses the exact dead time and the real
-// metrics.
+// plausible plants.
 #ifndef LOOPWRIGHT_DESIGN_RECOMMENDATION_H_
 #define LOOPWRIGHT_DESIGN_RECOMMENDATION_H_
 
@@ -22,10 +26,12 @@
 namespace lw {
 
 struct Recommendation {
-  bool found = false;  // false: no set has a range, or the chosen range is [0, inf)
+  bool found = false;        // false: no set has a range, or the chosen range is [0, inf)
+  bool unbounded = false;    // not found because the chosen range is [0, inf)
+  bool specs_unmet = false;  // not found because the response band is empty
   double gain = 0.0;
   GainRange range;     // the range it is the middle of
-  std::string source;  // "robust and response", "robust", "locus and response", "response", "locus"
+  std::string source;  // "robust and response", "locus and response" or "response"
   std::string reason;  // one line, e.g. "geometric middle of [0.31, 0.82], where the robust and
                        // response bands overlap"
 };

@@ -6,7 +6,8 @@
 // region, design/gain_band.h), the simulated response band (exact dead time,
 // design/response_band.h), the robust band over parameter draws when the model file carries a
 // covariance (design/robust_band.h), optionally the band of the sampled loop, and the
-// recommended gain (design/recommendation.h; none, JSON null, when the band is [0, inf)).
+// recommended gain (design/recommendation.h: always inside the response band; none, JSON null,
+// when the response band is empty or the band is [0, inf)).
 // Exit 1 with one sentence when no gain meets the specs. Robust draws come from
 // identify/parameter_draws.h (app/model_draws.h). --save (alias -o,
 // --out) writes the JSON document the report reads; --plot draws the locus and metrics figures
@@ -346,7 +347,8 @@ class BandCommand : public Command {
       table.AddRow({"recommended", "K = " + FormatNumber(rec.gain, 4),
                     SummaryCell(rec.source, CellMark::kOk)});
     } else {
-      table.AddRow({"recommended", "none", SummaryCell("unbounded", CellMark::kCaution)});
+      table.AddRow({"recommended", "none",
+                    SummaryCell(rec.unbounded ? "unbounded" : "specs unmet", CellMark::kCaution)});
     }
     table.Print(ctx);
     out << "\n";
@@ -355,8 +357,10 @@ class BandCommand : public Command {
           << "\n";
     } else {
       out << Caution(ctx, "no recommended gain") << ": " << rec.reason
-          << "; a spec that limits the gain (--overshoot-max, --zeta-min, --rise-max, "
-             "--settle-max) gives one\n";
+          << (rec.unbounded ? "; a spec that limits the gain (--overshoot-max, --zeta-min, "
+                              "--rise-max, --settle-max) gives one\n"
+                            : "; relax a spec, or choose a gain knowing that its simulated step "
+                              "misses the specs (predict shows by how much)\n");
     }
     for (const std::string& f : figures) out << "figure: " << f << "\n";
     if (!out_path_.empty()) out << "band file: " << out_path_ << "\n";

@@ -73,13 +73,9 @@ std::vector<SummaryCell> ValueAndInterval(const EstimateSummary& e) {
 GainSet RecommendationSet(const GainSet& locus, const GainSet& response,
                           const std::optional<GainSet>& robust, std::string& name) {
   std::vector<std::pair<std::string, GainSet>> order;
-  if (robust) {
-    order.push_back({"robust and response", Intersect(*robust, response)});
-    order.push_back({"robust", *robust});
-  }
+  if (robust) order.push_back({"robust and response", Intersect(*robust, response)});
   order.push_back({"locus and response", Intersect(locus, response)});
   order.push_back({"response", response});
-  order.push_back({"locus", locus});
   for (auto& [n, set] : order) {
     if (!set.empty()) {
       name = n;

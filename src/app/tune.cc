@@ -360,7 +360,8 @@ class TuneCommand : public Command {
     nlohmann::json doc = nlohmann::json::parse(in, nullptr, /*allow_exceptions=*/false);
     if (doc.is_discarded() || !doc.contains("recommended_gain") ||
         !doc["recommended_gain"].is_number()) {
-      // A band of [0, inf) recommends nothing and its rule says why (design/recommendation.h).
+      // An empty response band or a band of [0, inf) recommends nothing, and the rule says why
+      // (design/recommendation.h).
       std::string why;
       if (!doc.is_discarded() && doc.contains("recommendation") &&
           doc["recommendation"].value("rule", nlohmann::json()).is_string()) {

@@ -321,6 +321,34 @@ def case_unbounded_band():
           and resp[0][1] is None, f"response band [4.390, inf) (got {resp!r})")
 
 
+def case_region_only():
+    # A PI zero (s = -2) faster than the plant's pole (s = -1/0.85) adds overshoot the region
+    # cannot see: the locus band holds gains whose dominant pole meets zeta >= 0.59 and
+    # sigma >= 2, but no simulated step meets overshoot <= 10 % and settling <= 2 s. Nothing is
+    # recommended then (design/recommendation.h), and predict at the locus band's middle shows
+    # why: its overshoot is above 10 %.
+    plant = "0.021*exp(-0.12*s)/(0.85*s+1)"
+    specs = ["--controller", "pi:2", "--overshoot-max", "10", "--settle-max", "2"]
+    code, out, err = run("band", "--plant", plant, *specs, "--json")
+    check(code == 0, f"a band with region bands only exits 0 ({err!r})")
+    doc = json.loads(out)
+    locus = doc["bands"]["locus"]
+    check(len(locus) == 1 and doc["bands"]["response"] == [],
+          f"a locus band and no response band ({doc['bands']!r})")
+    check(doc["recommended_gain"] is None and doc["recommendation"]["from"] is None,
+          f"nothing recommended ({doc['recommended_gain']!r}, {doc['recommendation']!r})")
+    check("response band is empty" in doc["recommendation"]["rule"],
+          f"the rule says why ({doc['recommendation']['rule']!r})")
+    code, out, err = run("band", "--plant", plant, *specs)
+    check(re.search(r"^\s*recommended\s+none\s+specs unmet", out, re.M) is not None,
+          f"the table says the specs are unmet ({out!r})")
+    middle = math.sqrt(locus[0][0] * locus[0][1])
+    code, out, err = run("predict", "--plant", plant, "--controller", "pi:2", "--gain",
+                         f"{middle:.6g}", "--json")
+    over = json.loads(out)["metrics"]["overshoot_percent"]
+    check(code == 0 and over > 10, f"predict at K = {middle:.4g}: overshoot {over} % > 10 %")
+
+
 def case_reverse_acting():
     # A reverse-acting plant (more actuator, less output): with u = K (r - y) and K > 0 the loop
     # 1 + K G is positive feedback at low frequency. For -2/(s + 1) under P control the closed

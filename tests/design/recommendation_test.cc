@@ -36,6 +36,28 @@ TEST_CASE("Recommend takes the geometric middle of the widest range of the first
   CHECK(r.gain == doctest::Approx(0.4 * std::sqrt(10.0)));
 }
 
+TEST_CASE("Recommend stays inside the response band: the region bands alone never decide") {
+  // A robust band that misses the response band: the overlap of locus and response comes next.
+  Recommendation r = Recommend({{0.2, 2.5}}, {{2.0, 3.0}}, GainSet{{0.5, 0.9}});
+  REQUIRE(r.found);
+  CHECK(r.source == "locus and response");
+  CHECK(r.gain == doctest::Approx(std::sqrt(2.0 * 2.5)));
+  // Neither region band meets the response band: its own middle.
+  r = Recommend({{0.2, 1.8}}, {{2.0, 3.0}}, GainSet{{0.5, 0.9}});
+  REQUIRE(r.found);
+  CHECK(r.source == "response");
+  CHECK(r.gain == doctest::Approx(std::sqrt(6.0)));
+  // No simulated step meets the specs: nothing, whatever the region bands hold.
+  r = Recommend({{91.0, 345.0}}, {}, GainSet{{93.0, 329.0}});
+  CHECK_FALSE(r.found);
+  CHECK(r.specs_unmet);
+  CHECK_FALSE(r.unbounded);
+  CHECK(r.reason.find("response band is empty") != std::string::npos);
+  r = Recommend({{0.3, 0.8}}, {}, std::nullopt);
+  CHECK_FALSE(r.found);
+  CHECK(r.specs_unmet);
+}
+
 TEST_CASE("Recommend finds nothing to recommend in a band of [0, inf) or in no band") {
   // Every gain from 0 up meets the specs: the "middle" of [0, inf) would be K = 0 (no control).
   Recommendation r = Recommend({{0.0, kInf}}, {{0.0, kInf}}, std::nullopt);
@@ -43,6 +65,7 @@ TEST_CASE("Recommend finds nothing to recommend in a band of [0, inf) or in no b
   CHECK(r.gain == 0.0);
   CHECK(r.source.empty());
   CHECK(r.reason.find("[0, inf)") != std::string::npos);
+  CHECK(r.unbounded);
   // Same when the robust band is the unbounded one that would be chosen first.
   r = Recommend({{0.0, kInf}}, {{0.0, kInf}}, GainSet{{0.0, kInf}});
   CHECK_FALSE(r.found);
