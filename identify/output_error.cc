@@ -537,18 +537,29 @@ SolveReport SolveMultiStart(const OutputErrorProblem& problem,
   auto begin = std::chrono::steady_clock::now();
   SolveOptions quiet = options;
   quiet.compute_covariance = false;
+  // Of several starts each only has to show which basin it falls into: screened to 1e-6, the
+  // best is then solved on to the given tolerances. A single start is solved to them at once.
+  SolveOptions screen = quiet;
+  if (starts.size() > 1) {
+    screen.function_tolerance = std::max(options.function_tolerance, 1e-6);
+    screen.parameter_tolerance = std::max(options.parameter_tolerance, 1e-6);
+  }
   SolveReport best;
   bool have = false;
   for (const auto& given : starts) {
     std::vector<double> start = given;
     SolveLinearParameters(problem, fixed, start);
     for (size_t i = 0; i < start.size(); ++i) start[i] = std::clamp(start[i], lower[i], upper[i]);
-    SolveReport r = SolveOutputError(problem, start, fixed, lower, upper, quiet);
+    SolveReport r = SolveOutputError(problem, start, fixed, lower, upper, screen);
     if (!std::isfinite(r.rss)) continue;
     if (!have || r.rss < best.rss) {
       best = std::move(r);
       have = true;
     }
+  }
+  if (have && starts.size() > 1) {
+    SolveReport r = SolveOutputError(problem, best.x, fixed, lower, upper, quiet);
+    if (std::isfinite(r.rss) && r.rss <= best.rss) best = std::move(r);
   }
   if (!have) best = SolveOutputError(problem, starts.front(), fixed, lower, upper, quiet);
   if (options.compute_covariance) ComputeOutputErrorCovariance(problem, fixed, best);
