@@ -1,6 +1,8 @@
 #include "app/fit_compare.h"
 
+#include <cerrno>
 #include <cmath>
+#include <cstring>
 #include <fstream>
 #include <sstream>
 
@@ -90,7 +92,7 @@ GainSet RecommendationSet(const GainSet& locus, const GainSet& response,
 
 BandFile ReadBandFile(const std::string& path) {
   std::ifstream in(path, std::ios::binary);
-  if (!in) throw DataError(path + ": cannot read the band file");
+  if (!in) throw DataError("cannot read the band file '" + path + "': " + std::strerror(errno));
   std::stringstream buf;
   buf << in.rdbuf();
   json doc;

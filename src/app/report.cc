@@ -9,6 +9,8 @@
 // `loopwright check --save`), anything else under "Figures". A JSON file of another kind is a
 // data error (exit 3) naming the file; the report is written atomically.
 #include <algorithm>
+#include <cerrno>
+#include <cstring>
 #include <filesystem>
 #include <fstream>
 #include <iterator>
@@ -60,7 +62,7 @@ std::string ModelLine(const ModelDocument& m) {
 
 std::string ReadWhole(const std::string& path) {
   std::ifstream in(path, std::ios::binary);
-  if (!in) throw DataError("cannot read '" + path + "'");
+  if (!in) throw DataError("cannot read '" + path + "': " + std::strerror(errno));
   return std::string(std::istreambuf_iterator<char>(in), std::istreambuf_iterator<char>());
 }
 

@@ -532,6 +532,10 @@ def case_save_report():
         html = f.read()
     check("Gain band" in html and "Prediction at K = 0.4" in html,
           "the report has the band and prediction sections")
+    expect_error("report of a missing file",
+                 ["report", model, path("absent.json"), "-o", path("report2.html")], 3,
+                 r"cannot read '.*absent\.json': No such file or directory",
+                 [path("report2.html")])
 
 
 def case_colour():

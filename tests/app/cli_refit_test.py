@@ -354,6 +354,8 @@ def case_errors():
          r"nothing\.json"),
         ("old model not JSON", ["fit", rework, "--compare", path("bad.json"), "-o", out_file], 3,
          r"bad\.json: not valid JSON"),
+        ("missing band file", ["fit", rework, "--band", path("absent_band.json"), "-o", out_file],
+         3, r"cannot read the band file '.*absent_band\.json': No such file or directory"),
         ("band file of another kind", ["fit", rework, "--band", path("not_band.json"), "-o",
                                        out_file], 3, r"not a loopwright band file"),
         ("a model given as band", ["fit", rework, "--band", path("old.json"), "-o", out_file], 3,
