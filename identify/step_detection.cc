@@ -94,10 +94,12 @@ RecordingAnalysis AnalyseRecording(std::span<const double> t, std::span<const do
     a.min_interval = std::min(a.min_interval, dt);
     a.max_interval = std::max(a.max_interval, dt);
   }
-  a.sample_period = MedianOf(n - 1, [&](size_t i) { return t[i + 1] - t[i]; });
   const double mean_dt = (t[n - 1] - t[0]) / static_cast<double>(n - 1);
   a.uniform =
       a.max_interval - mean_dt <= 1e-6 * mean_dt && mean_dt - a.min_interval <= 1e-6 * mean_dt;
+  // On a uniform grid every interval, the median among them, is within 1e-6 of the mean.
+  a.sample_period =
+      a.uniform ? mean_dt : MedianOf(n - 1, [&](size_t i) { return t[i + 1] - t[i]; });
 
   const auto [umin, umax] = std::minmax_element(u.begin(), u.end());
   const double range = *umax - *umin;

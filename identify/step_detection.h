@@ -34,11 +34,11 @@ struct RecordingAnalysis {
   double output_final = 0.0;     // mean output over the end of the first step's segment
   double input_final = 0.0;      // mean input over the last 20 % of the record
   double output_noise_sd = 0.0;
-  double sample_period = 0.0;  // median interval, s
+  double sample_period = 0.0;  // median interval, s (the mean on a uniform grid: within 1e-6)
   double min_interval = 0.0, max_interval = 0.0;
   bool uniform = true;  // every interval within 1e-6 of the mean
   bool settled = true;
-  bool input_away = true;  // see above
+  bool input_away = true;      // see above
   size_t clipped_samples = 0;  // longest flat run at an extreme (0 when none)
   double clipped_level = 0.0;
   double clipped_from = 0.0;  // s
