@@ -42,6 +42,8 @@ Recommendation Recommend(const GainSet& locus, const GainSet& response,
   }
   for (const Option& o : options) {
     if (o.set.empty()) continue;
+    rec.set = o.set;
+    rec.set_name = o.source;
     rec.range = Widest(o.set);
     if (rec.range.lo <= 0.0 && std::isinf(rec.range.hi)) {
       // Every gain from 0 up: the specs bound nothing, and no middle of [0, inf) is a choice.

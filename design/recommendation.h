@@ -34,6 +34,10 @@ struct Recommendation {
   std::string source;  // "robust and response", "locus and response" or "response"
   std::string reason;  // one line, e.g. "geometric middle of [0.31, 0.82], where the robust and
                        // response bands overlap"
+  // The first non-empty set of the rule and its name, also when it recommends nothing because
+  // it is [0, inf); empty and "none" when every set is empty (a gain in use is judged on it).
+  GainSet set;
+  std::string set_name = "none";
 };
 
 Recommendation Recommend(const GainSet& locus, const GainSet& response,

@@ -71,23 +71,6 @@ std::vector<SummaryCell> ValueAndInterval(const EstimateSummary& e) {
   return {SummaryCell(text.value), SummaryCell(text.low + " .. " + text.high)};
 }
 
-// The set Recommend() draws from, by its documented priority.
-GainSet RecommendationSet(const GainSet& locus, const GainSet& response,
-                          const std::optional<GainSet>& robust, std::string& name) {
-  std::vector<std::pair<std::string, GainSet>> order;
-  if (robust) order.push_back({"robust and response", Intersect(*robust, response)});
-  order.push_back({"locus and response", Intersect(locus, response)});
-  order.push_back({"response", response});
-  for (auto& [n, set] : order) {
-    if (!set.empty()) {
-      name = n;
-      return set;
-    }
-  }
-  name = "none";
-  return {};
-}
-
 }  // namespace
 
 BandFile ReadBandFile(const std::string& path) {
@@ -188,8 +171,7 @@ BandRecheck RecheckBand(const BandFile& band, const FitResult& fresh,
   rc.inside_locus = Contains(rc.locus, rc.gain_in_use);
   rc.inside_response = Contains(rc.response, rc.gain_in_use);
   if (rc.robust) rc.inside_robust = Contains(*rc.robust, rc.gain_in_use);
-  GainSet set = RecommendationSet(rc.locus, rc.response, rc.robust, rc.still_inside_set);
-  rc.still_inside = Contains(set, rc.gain_in_use);
+  rc.still_inside = Contains(rc.recommendation.set, rc.gain_in_use);
   return rc;
 }
 
@@ -270,7 +252,7 @@ json ComparisonJson(const ModelComparison& c) {
                     {"response", b.inside_response},
                     {"robust", b.inside_robust ? json(*b.inside_robust) : json(nullptr)}};
   band["still_inside"] = b.still_inside;
-  band["judged_on"] = b.still_inside_set;
+  band["judged_on"] = b.recommendation.set_name;
   band["infeasible"] = b.infeasible.empty() ? json(nullptr) : json(b.infeasible);
   if (!b.robust_note.empty()) band["robust_note"] = b.robust_note;
   doc["band"] = band;
@@ -322,11 +304,12 @@ void PrintComparison(const Context& ctx, const ModelComparison& c) {
     out << "  " << Bad(ctx, "no gain meets the specs now: ") << b.infeasible << "\n";
   const std::string k = "K = " + FormatNumber(b.gain_in_use, 4) + " (" + b.gain_source + ")";
   if (b.still_inside) {
-    out << "  " << Good(ctx, k + " is still inside") << " the new " << b.still_inside_set
+    out << "  " << Good(ctx, k + " is still inside") << " the new " << b.recommendation.set_name
         << " band\n";
   } else {
     out << "  " << Bad(ctx, k + " is no longer inside") << " the new "
-        << (b.still_inside_set == "none" ? "bands" : b.still_inside_set + " band") << "\n";
+        << (b.recommendation.set_name == "none" ? "bands" : b.recommendation.set_name + " band")
+        << "\n";
   }
   if (b.recommendation.found) {
     out << "  new recommended gain K = " << FormatNumber(b.recommendation.gain, 4) << " (was "

@@ -59,10 +59,9 @@ struct BandRecheck {
   std::string gain_source;  // "--gain" or "the old band's recommended gain"
   bool inside_locus = false, inside_response = false;
   std::optional<bool> inside_robust;
-  bool still_inside = false;     // inside the set the recommendation rule draws from
-  std::string still_inside_set;  // which set that is, e.g. "robust and response"
-  std::string infeasible;        // when no gain meets the specs on the new model: why
-                                 // (design/infeasibility.h); empty otherwise
+  bool still_inside = false;  // inside recommendation.set (the set the rule draws from)
+  std::string infeasible;     // when no gain meets the specs on the new model: why
+                              // (design/infeasibility.h); empty otherwise
 };
 
 // Bands of the new model as described above.

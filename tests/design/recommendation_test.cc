@@ -41,6 +41,7 @@ TEST_CASE("Recommend stays inside the response band: the region bands alone neve
   Recommendation r = Recommend({{0.2, 2.5}}, {{2.0, 3.0}}, GainSet{{0.5, 0.9}});
   REQUIRE(r.found);
   CHECK(r.source == "locus and response");
+  CHECK(r.set_name == "locus and response");
   CHECK(r.gain == doctest::Approx(std::sqrt(2.0 * 2.5)));
   // Neither region band meets the response band: its own middle.
   r = Recommend({{0.2, 1.8}}, {{2.0, 3.0}}, GainSet{{0.5, 0.9}});
@@ -53,6 +54,8 @@ TEST_CASE("Recommend stays inside the response band: the region bands alone neve
   CHECK(r.specs_unmet);
   CHECK_FALSE(r.unbounded);
   CHECK(r.reason.find("response band is empty") != std::string::npos);
+  CHECK(r.set_name == "none");
+  CHECK(r.set.empty());
   r = Recommend({{0.3, 0.8}}, {}, std::nullopt);
   CHECK_FALSE(r.found);
   CHECK(r.specs_unmet);
@@ -66,6 +69,9 @@ TEST_CASE("Recommend finds nothing to recommend in a band of [0, inf) or in no b
   CHECK(r.source.empty());
   CHECK(r.reason.find("[0, inf)") != std::string::npos);
   CHECK(r.unbounded);
+  // The set it drew from is still named: a gain in use is judged on it (fit --band).
+  CHECK(r.set_name == "locus and response");
+  CHECK(r.set.size() == 1);
   // Same when the robust band is the unbounded one that would be chosen first.
   r = Recommend({{0.0, kInf}}, {{0.0, kInf}}, GainSet{{0.0, kInf}});
   CHECK_FALSE(r.found);
