@@ -39,15 +39,6 @@ struct Track {
   std::vector<std::optional<ParameterChange>> changes;  // [0] always empty
 };
 
-// The value and 95 % interval columns, as fit prints them.
-std::vector<std::string> ValueAndInterval(const EstimateSummary& e) {
-  if (!std::isfinite(e.ci_low) || !std::isfinite(e.ci_high)) {
-    return {FormatNumber(e.value), "undetermined"};
-  }
-  const EstimateText text = FormatEstimate(e.value, e.ci_low, e.ci_high);
-  return {text.value, text.low + " .. " + text.high};
-}
-
 std::string RecordingNames(const LoggedResult& r) {
   std::string names;
   for (const auto& rec : r.recordings) {
@@ -194,8 +185,8 @@ class DriftCommand : public Command {
       TextTable table({"fit", "value", "95 % interval", "change", "z", "verdict"});
       for (size_t i = 0; i < t.estimates.size(); ++i) {
         const EstimateSummary& e = t.estimates[i];
-        std::vector<std::string> row = ValueAndInterval(e);
-        row.insert(row.begin(), std::to_string(i + 1));
+        const EstimateText text = FormatEstimate(e.value, e.ci_low, e.ci_high);
+        std::vector<std::string> row = {std::to_string(i + 1), text.value, text.interval};
         if (const auto& c = t.changes[i]) {
           std::string change = (c->change >= 0 ? "+" : "") + FormatNumber(c->change);
           if (std::isfinite(c->change_percent)) {

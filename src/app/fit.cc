@@ -179,11 +179,10 @@ void CheckOutputFolder(const std::string& path, const std::string& option) {
   }
 }
 
-// The value and 95 % interval columns of one parameter row.
+// One parameter row: name, value, 95 % interval, unit.
 std::vector<std::string> EstimateRow(const ParameterEstimate& p) {
-  if (std::isnan(p.ci_low)) return {p.name, FormatNumber(p.value), "undetermined", p.unit};
   const EstimateText text = FormatEstimate(p.value, p.ci_low, p.ci_high);
-  return {p.name, text.value, text.low + " .. " + text.high, p.unit};
+  return {p.name, text.value, text.interval, p.unit};
 }
 
 class FitCommand : public Command {

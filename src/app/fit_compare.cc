@@ -62,15 +62,6 @@ json EstimateJson(const EstimateSummary& e) {
           {"se", JsonNumber(e.se)}};
 }
 
-// The value and 95 % interval columns, as fit prints them.
-std::vector<SummaryCell> ValueAndInterval(const EstimateSummary& e) {
-  if (!std::isfinite(e.ci_low) || !std::isfinite(e.ci_high)) {
-    return {SummaryCell(FormatNumber(e.value)), SummaryCell("undetermined")};
-  }
-  const EstimateText text = FormatEstimate(e.value, e.ci_low, e.ci_high);
-  return {SummaryCell(text.value), SummaryCell(text.low + " .. " + text.high)};
-}
-
 }  // namespace
 
 BandFile ReadBandFile(const std::string& path) {
@@ -272,10 +263,10 @@ void PrintComparison(const Context& ctx, const ModelComparison& c) {
                               ? (*p.significant ? SummaryCell("changed", CellMark::kCaution)
                                                 : SummaryCell("same", CellMark::kOk))
                               : SummaryCell("unknown");
-    const std::vector<SummaryCell> before = ValueAndInterval(p.before);
-    const std::vector<SummaryCell> after = ValueAndInterval(p.after);
-    t.AddRow({p.name + (p.unit.empty() || p.unit == "-" ? "" : " [" + p.unit + "]"), before[0],
-              before[1], after[0], after[1], change, FormatNumber(p.z, 3), verdict});
+    const EstimateText before = FormatEstimate(p.before.value, p.before.ci_low, p.before.ci_high);
+    const EstimateText after = FormatEstimate(p.after.value, p.after.ci_low, p.after.ci_high);
+    t.AddRow({p.name + (p.unit.empty() || p.unit == "-" ? "" : " [" + p.unit + "]"), before.value,
+              before.interval, after.value, after.interval, change, FormatNumber(p.z, 3), verdict});
   }
   t.Print(ctx);
   if (!c.only_old.empty() || !c.only_new.empty()) {

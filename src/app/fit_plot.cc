@@ -14,12 +14,12 @@ namespace lw::app {
 namespace {
 
 std::string CaptionText(const ParameterEstimate& p) {
-  if (!std::isfinite(p.ci_low) || !std::isfinite(p.ci_high)) {
-    return p.name + " = " + FormatQuantity(p.value, p.unit);
-  }
   const EstimateText text = FormatEstimate(p.value, p.ci_low, p.ci_high);
-  return p.name + " = " + text.value + " [" + text.low + ", " + text.high + "]" +
-         (p.unit.empty() ? "" : " " + p.unit);
+  std::string s = p.name + " = " + text.value;
+  if (std::isfinite(p.ci_low) && std::isfinite(p.ci_high))
+    s += " [" + text.low + ", " + text.high + "]";
+  if (!p.unit.empty()) s += " " + p.unit;
+  return s;
 }
 
 }  // namespace
@@ -28,7 +28,8 @@ void WriteFitPlot(const std::string& path, const std::string& recording_name,
                   const StepRecording& data, const Identification& id) {
   const FitResult& m = id.model;
   FitFigureData d;
-  d.title = "Fit of " + std::filesystem::path(recording_name).filename().string() + ": " + std::string(StructureName(m.structure));
+  d.title = "Fit of " + std::filesystem::path(recording_name).filename().string() + ": " +
+            std::string(StructureName(m.structure));
   d.t = data.t;
   d.measured = data.y;
   d.input = data.u;

@@ -69,13 +69,17 @@ std::string FormatNumber(double v, int significant) {
 }
 
 EstimateText FormatEstimate(double value, double low, double high, int significant) {
+  const bool bounded = std::isfinite(low) && std::isfinite(high);
   EstimateText text;
   for (int digits = std::clamp(significant, 1, 17);; ++digits) {
-    text = {FormatNumber(value, digits), FormatNumber(low, digits), FormatNumber(high, digits)};
+    text = {FormatNumber(value, digits), FormatNumber(low, digits), FormatNumber(high, digits),
+            "undetermined"};
     const bool low_ok = !(low < value) || text.low != text.value;
     const bool high_ok = !(value < high) || text.high != text.value;
-    if ((low_ok && high_ok) || digits >= std::max(10, significant)) return text;
+    if (!bounded || (low_ok && high_ok) || digits >= std::max(10, significant)) break;
   }
+  if (bounded) text.interval = text.low + " .. " + text.high;
+  return text;
 }
 
 std::string FormatQuantity(double v, std::string_view unit, int significant) {

@@ -26,9 +26,11 @@ std::string FormatNumber(double v, int significant = 4);
 // An estimate and its interval, low <= value <= high, as text: each with `significant` digits, or
 // with as many more (up to 10) as it takes for two of them that differ to read differently, so
 // an interval never prints with zero width: 101325 with 101324.96 .. 101325.04 reads
-// "101325", "101324.96", "101325.04" instead of "101325" three times. NaN bounds print "n/a".
+// "101325", "101324.96", "101325.04" instead of "101325" three times. Non-finite bounds print
+// "n/a", and the interval then reads "undetermined".
 struct EstimateText {
   std::string value, low, high;
+  std::string interval;  // "low .. high", or "undetermined" without finite bounds
 };
 EstimateText FormatEstimate(double value, double low, double high, int significant = 4);
 

@@ -34,6 +34,7 @@ TEST_CASE("FormatEstimate adds digits until an interval has width") {
   CHECK(a.value == "2.599");
   CHECK(a.low == "2.597");
   CHECK(a.high == "2.602");
+  CHECK(a.interval == "2.597 .. 2.602");
   // A large offset with a narrow interval: 4 digits would print 143 three times.
   EstimateText b = FormatEstimate(143.0012, 142.98, 143.0224);
   CHECK(b.value == "143");
@@ -50,6 +51,7 @@ TEST_CASE("FormatEstimate adds digits until an interval has width") {
   EstimateText e = FormatEstimate(1.0 / 3.0, std::nan(""), std::nan(""));
   CHECK(e.value == "0.3333");
   CHECK(e.low == "n/a");
+  CHECK(e.interval == "undetermined");
   // At most 10 digits, whatever the bounds.
   EstimateText f = FormatEstimate(1.0, std::nextafter(1.0, 0.0), std::nextafter(1.0, 2.0));
   CHECK(f.value == "1");
