@@ -48,22 +48,24 @@ LoopPolynomials LoopPolynomials::ForPiZero(const TransferFunction& plant, double
 
 namespace {
 
+// The lowest nonzero coefficient of p (0 for the zero polynomial) and, in `power`, its power of s.
+double LowestCoefficient(const Polynomial& p, int* power = nullptr) {
+  const auto& c = p.coefficients();  // descending
+  for (size_t i = c.size(); i-- > 0;) {
+    if (c[i] != 0.0) {
+      if (power) *power = static_cast<int>(c.size() - 1 - i);
+      return c[i];
+    }
+  }
+  if (power) *power = 0;
+  return 0.0;
+}
+
 // The plant at low frequency: "G(0) = -1.5", or "G(s) -> -0.8/s as s -> 0" with poles at the
 // origin (the lowest nonzero coefficients of numerator and denominator).
 std::string LowFrequencyText(const TransferFunction& g) {
-  auto lowest = [](const Polynomial& p, int& power) {
-    const auto& c = p.coefficients();  // descending
-    for (size_t i = c.size(); i-- > 0;) {
-      if (c[i] != 0.0) {
-        power = static_cast<int>(c.size() - 1 - i);
-        return c[i];
-      }
-    }
-    power = 0;
-    return 0.0;
-  };
   int pn = 0, pd = 0;
-  const double ratio = lowest(g.num(), pn) / lowest(g.den(), pd);
+  const double ratio = LowestCoefficient(g.num(), &pn) / LowestCoefficient(g.den(), &pd);
   const int k = pd - pn;
   if (k == 0) return "G(0) = " + SignificantText(ratio, 4);
   std::string text = "G(s) -> " + SignificantText(ratio, 4) + "/s";
@@ -86,14 +88,7 @@ std::string PositiveFeedbackNote(const LoopPolynomials& loop, const TransferFunc
 }
 
 int LoopPolynomials::LowFrequencySign() const {
-  auto lowest = [](const Polynomial& p) {
-    const auto& c = p.coefficients();
-    for (size_t i = c.size(); i-- > 0;) {
-      if (c[i] != 0.0) return c[i];
-    }
-    return 0.0;
-  };
-  return lowest(b) * lowest(a) < 0.0 ? -1 : 1;
+  return LowestCoefficient(b) * LowestCoefficient(a) < 0.0 ? -1 : 1;
 }
 
 double LoopPolynomials::FrequencyScale() const {

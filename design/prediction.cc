@@ -113,11 +113,7 @@ Prediction Predict(const TransferFunction& plant, const Controller& controller, 
     p.metrics.no_peak =
         "no peak: the closed loop is unstable, so its response has no rise, peak or settling time";
   }
-  if (loop.LowFrequencySign() < 0) {
-    p.direction_warning =
-        "the loop gain is negative at low frequency (a reverse-acting plant: more actuator, less "
-        "output), so every K > 0 feeds back positively and drives y away from r";
-  }
+  p.direction_warning = PositiveFeedbackNote(loop, plant);
   auto [mn, mx] = std::minmax_element(p.u.begin(), p.u.end());
   p.actuator_min = *mn;
   p.actuator_max = *mx;

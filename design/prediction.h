@@ -60,7 +60,7 @@ struct Prediction {
   bool actuator_exceeded = false;
   double actuator_min = 0.0, actuator_max = 0.0;  // over the record
   std::string actuator_warning;                   // one sentence when exceeded
-  // One sentence when LoopPolynomials::LowFrequencySign() < 0 (K > 0 is positive feedback).
+  // PositiveFeedbackNote (loop_polynomials.h): one sentence when K > 0 is positive feedback.
   std::string direction_warning;
 };
 
