@@ -145,8 +145,8 @@ RecordingAnalysis AnalyseRecording(std::span<const double> t, std::span<const do
   }
   const double moved = sxx > 0.0 ? std::abs(sxy / sxx) * (tt.back() - tt.front()) : 0.0;
   a.settled = moved <= 0.02 * std::abs(a.output_change) + 3.0 * a.output_noise_sd;
-  a.input_final = Mean(u.subspan(k0));
-  a.input_away = std::abs(a.input_final - a.input_baseline) >= 0.25 * std::abs(a.input_change);
+  a.input_away =
+      std::abs(Mean(u.subspan(k0)) - a.input_baseline) >= 0.25 * std::abs(a.input_change);
 
   // Clipping: a flat run at an extreme, after the step, while the baseline is noisy (exact
   // repeats are then no accident; noise-free data are never called clipped).

@@ -32,7 +32,6 @@ struct RecordingAnalysis {
   double input_change = 0.0;     // first step: mean input after it minus the baseline
   double output_change = 0.0;    // first step: settled output minus the baseline
   double output_final = 0.0;     // mean output over the end of the first step's segment
-  double input_final = 0.0;      // mean input over the last 20 % of the record
   double output_noise_sd = 0.0;
   double sample_period = 0.0;  // median interval, s (the mean on a uniform grid: within 1e-6)
   double min_interval = 0.0, max_interval = 0.0;
