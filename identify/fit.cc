@@ -450,13 +450,12 @@ FitResult FitStructure(Structure s, const StepRecording& rec, const RecordingAna
         ++outliers;
       }
     }
-    if (outliers == 1) {
-      fit.warnings.push_back("1 outlier (residual beyond " + Num(z) +
-                             " robust sd) at t = " + Num(first_t) + " s; consider --robust");
-    } else if (outliers > 1) {
-      fit.warnings.push_back(std::to_string(outliers) + " outliers (residuals beyond " + Num(z) +
-                             " robust sd), the first at t = " + Num(first_t) +
-                             " s; consider --robust");
+    if (outliers) {
+      const bool one = outliers == 1;
+      fit.warnings.push_back(std::to_string(outliers) +
+                             (one ? " outlier (residual" : " outliers (residuals") + " beyond " +
+                             Num(z) + " robust sd)" + (one ? " at" : ", the first at") +
+                             " t = " + Num(first_t) + " s; consider --robust");
     }
   }
   fit.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - begin).count();
