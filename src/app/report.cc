@@ -142,17 +142,16 @@ class Builder {
     band_index_ = sections_.size() - 1;
 
     ReportSection gain{"Chosen gain", {}, {}, {}};
-    const json rule =
-        doc.contains("recommendation") ? doc["recommendation"].value("rule", json()) : json();
-    if (doc.value("recommended_gain", json()).is_null()) {
-      // band.cc: a band of [0, inf) recommends no gain, and the rule says so.
+    const json rec = doc.value("recommendation", json::object());
+    const json rule = rec.value("rule", json()), from = rec.value("from", json());
+    const json gain_k = doc.value("recommended_gain", json());
+    if (gain_k.is_null()) {
+      // design/recommendation.h: an empty response band or a band of [0, inf) recommends no
+      // gain, and the rule says why.
       gain.paragraphs.push_back("No recommended gain: " + Text(rule) + ".");
     } else {
-      gain.paragraphs.push_back(
-          "Recommended gain K = " + Text(doc.value("recommended_gain", json())) + ".");
+      gain.paragraphs.push_back("Recommended gain K = " + Text(gain_k) + ".");
     }
-    const json from =
-        doc.contains("recommendation") ? doc["recommendation"].value("from", json()) : json();
     if (!from.is_null())
       gain.paragraphs.push_back("Rule: " + Text(rule) + " (from the " + Text(from) + " band).");
     sections_.push_back(gain);

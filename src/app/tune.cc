@@ -366,7 +366,7 @@ class TuneCommand : public Command {
       if (!doc.is_discarded() && doc.contains("recommendation") &&
           doc["recommendation"].value("rule", nlohmann::json()).is_string()) {
         why = " (" + doc["recommendation"]["rule"].get<std::string>() +
-              "; give --gain or a spec that limits the gain)";
+              "; give --gain or change the specs)";
       }
       throw JobFailed(band_path + " names no recommended gain" + why + "; nothing was applied");
     }
