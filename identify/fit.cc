@@ -287,6 +287,22 @@ std::string Undetermined(const FitResult& f) {
   return "";
 }
 
+namespace {
+
+// Why an auto candidate whose solve stopped short is not a candidate, and what its last
+// iterate shows.
+std::string NotConvergedNote(const FitResult& f, const FitOptions& options) {
+  std::string note =
+      f.termination.rfind("NO_CONVERGENCE", 0) == 0
+          ? "stopped at the iteration limit (" + std::to_string(options.max_iterations) + ")"
+          : "did not converge (Ceres: " + f.termination + ")";
+  const std::string why = Undetermined(f);
+  if (!why.empty()) note += "; the data do not determine it (" + why + ")";
+  return note + "; not a candidate";
+}
+
+}  // namespace
+
 int ChooseCandidate(std::vector<Candidate>& candidates, const SelectionOptions& options,
                     std::string& note) {
   std::vector<double> crit;
@@ -559,7 +575,8 @@ Identification Identify(const StepRecording& recording, const FitOptions& option
       if (s == Structure::kFopdt) fopdt = f;
       if (s == Structure::kSopdt) sopdt = f;
       c.usable = f.converged;
-      if (!f.converged) c.note = "did not converge";
+      c.fitted = true;
+      if (!f.converged) c.note = NotConvergedNote(f, options);
       c.fit_percent = f.fit_percent;
       c.residual_rms = f.residual_rms;
       c.aicc = f.aicc;

@@ -111,6 +111,9 @@ struct FitResult {
 struct Candidate {
   Structure structure = Structure::kFopdt;
   bool usable = false;
+  // The structure was fitted: fit_percent and residual_rms describe its last iterate, also
+  // when it is not usable (the solver stopped without converging); false when not tried.
+  bool fitted = false;
   std::string note;  // why not usable, or empty
   // delta_aicc = aicc - the smallest usable aicc (0 for the smallest, also when another
   // candidate is chosen).

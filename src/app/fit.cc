@@ -114,8 +114,8 @@ nlohmann::json ResultJson(const Identification& id) {
       doc["candidates"].push_back({{"structure", std::string(StructureName(c.structure))},
                                    {"usable", c.usable},
                                    {"note", c.note},
-                                   {"fit_percent", JsonNumber(c.usable ? c.fit_percent : kNaN)},
-                                   {"residual_rms", JsonNumber(c.usable ? c.residual_rms : kNaN)},
+                                   {"fit_percent", JsonNumber(c.fitted ? c.fit_percent : kNaN)},
+                                   {"residual_rms", JsonNumber(c.fitted ? c.residual_rms : kNaN)},
                                    {"aicc", JsonNumber(c.usable ? c.aicc : kNaN)},
                                    {"delta_aicc", JsonNumber(c.usable ? c.delta_aicc : kNaN)},
                                    {"free_parameters", c.free_parameters},
@@ -455,7 +455,11 @@ class FitCommand : public Command {
       for (const auto& c : id.candidates) {
         std::string mark = c.chosen ? " *" : "";
         if (!c.usable) {
-          cands.AddRow({std::string(StructureName(c.structure)), "", "", "", "", c.note});
+          // A solve that stopped short still shows how well its last iterate fits; it has no
+          // criterion, since it is not a candidate.
+          cands.AddRow({std::string(StructureName(c.structure)),
+                        c.fitted ? FormatNumber(c.fit_percent) : "",
+                        c.fitted ? FormatNumber(c.residual_rms) : "", "", "", c.note});
           continue;
         }
         std::string note = c.note;

@@ -255,6 +255,20 @@ def case_integrating_tie():
         check("integrating is chosen" in doc["selection"]["note"]
               and "contains 0" in doc["selection"]["note"],
               f"the note says why the smaller AICc lost ({doc['selection']['note']!r})")
+    # A candidate whose solve stops short is no candidate, but the table still says why and how
+    # well its last iterate fits: on this record sopdt-zero can only mimic the integrator with
+    # a first time constant far beyond the record (gain and time constant trade off), so it
+    # must either converge or say that it stopped and that the data do not determine it.
+    for c in doc["candidates"]:
+        if c["usable"] or c["note"].startswith("not tried"):
+            continue
+        check(re.match(r"(stopped at the iteration limit \(\d+\)|did not converge \(Ceres: .+\))"
+                       r"(; the data do not determine it \(.+\))?; not a candidate$",
+                       c["note"]) is not None,
+              f"{c['structure']}: the note says why it stopped ({c['note']!r})")
+        check(c["fit_percent"] is not None and c["fit_percent"] <= fits["sopdt"]["fit_percent"] + 0.1,
+              f"{c['structure']}: the last iterate's fit % is shown ({c['fit_percent']})")
+        check(c["aicc"] is None, f"{c['structure']}: no criterion for a non-candidate")
 
 
 def case_integrating_pulse():
