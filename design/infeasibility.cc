@@ -1,6 +1,8 @@
 #include "design/infeasibility.h"
 
+#include <algorithm>
 #include <cmath>
+#include <complex>
 #include <cstdio>
 #include <functional>
 #include <limits>
@@ -83,12 +85,23 @@ std::vector<Requirement> Requirements(const Region& r) {
   return out;
 }
 
-// Maximises q over the gains in `set` (sampling plus golden-section refinement).
-std::pair<double, double> Best(const GainSet& set, const std::function<double(double)>& q) {
+// The gain at which a and K b are equally large at the loop's frequency scale: where the
+// loop's poles move most, the centre of the search over an unbounded range.
+double GainScale(const LoopPolynomials& loop) {
+  const std::complex<double> jw(0.0, loop.FrequencyScale());
+  const double ratio = std::abs(loop.a(jw)) / std::abs(loop.b(jw));
+  return std::isfinite(ratio) && ratio > 0.0 ? ratio : 1.0;
+}
+
+// Maximises q over the gains in `set` (sampling plus golden-section refinement); a range
+// [0, inf) is searched over four decades either side of `scale`.
+std::pair<double, double> Best(const GainSet& set, const std::function<double(double)>& q,
+                               double scale) {
   double best = -std::numeric_limits<double>::infinity(), best_k = 0.0;
   for (const GainRange& r : set) {
-    double lo = r.lo > 0.0 ? r.lo : r.hi * 1e-4;
-    double hi = std::isfinite(r.hi) ? r.hi : lo * 1e3;
+    const bool open = !(r.lo > 0.0) && !std::isfinite(r.hi);
+    double lo = open ? 1e-4 * scale : r.lo > 0.0 ? r.lo : r.hi * 1e-4;
+    double hi = open ? 1e4 * scale : std::isfinite(r.hi) ? r.hi : lo * 1e3;
     const int n = 64;
     int bi = -1;
     std::vector<double> ks(n);
@@ -128,8 +141,21 @@ Infeasibility DiagnoseInfeasible(const LoopPolynomials& loop, const Region& regi
   Infeasibility out;
   GainSet stable = FindLocusBand(loop, Region{}).gains();
   if (stable.empty()) {
-    auto [best, k] = Best({{0.0, std::numeric_limits<double>::infinity()}},
-                          [&](double g) { return -JudgeGain(loop, Region{}, g).dominant.real(); });
+    auto [best, k] = Best(
+        {{0.0, std::numeric_limits<double>::infinity()}},
+        [&](double g) { return -JudgeGain(loop, Region{}, g).dominant.real(); }, GainScale(loop));
+    // As K -> 0 the poles tend to the roots of a (the open loop's own poles): when none of the
+    // sampled gains does better, the closest approach is that limit, not a gain.
+    double limit = -std::numeric_limits<double>::infinity();
+    for (const auto& r : loop.a.roots()) limit = std::max(limit, r.real());
+    if (limit <= -best) {
+      out = {
+          "no gain K > 0 gives a stable loop; its dominant pole comes closest to the left half "
+          "plane as K -> 0, where it tends to the open loop's pole at Re s = " +
+              Num(limit) + " 1/s",
+          "stability", "", limit, 0.0};
+      return out;
+    }
     out = {
         "no gain K > 0 gives a stable loop; the dominant pole comes closest to the left half "
         "plane at Re s = " +
@@ -140,7 +166,8 @@ Infeasibility DiagnoseInfeasible(const LoopPolynomials& loop, const Region& regi
   std::vector<Requirement> reqs = Requirements(region);
   for (const Requirement& r : reqs) {
     if (!FindLocusBand(loop, r.alone).empty()) continue;
-    auto [best, k] = Best(stable, [&](double g) { return r.quantity(loop, g); });
+    auto [best, k] = Best(
+        stable, [&](double g) { return r.quantity(loop, g); }, GainScale(loop));
     out = {"no gain gives " + r.text + " with a stable loop; the best " + r.name + " is " +
                Num(best) + ", at K = " + Num(k),
            r.name, "", best, k};
@@ -151,7 +178,8 @@ Infeasibility DiagnoseInfeasible(const LoopPolynomials& loop, const Region& regi
       if (i == j) continue;
       if (!FindLocusBand(loop, Merge(reqs[i].alone, reqs[j].alone)).empty()) continue;
       GainSet with = FindLocusBand(loop, reqs[i].alone).gains();
-      auto [best, k] = Best(with, [&](double g) { return reqs[j].quantity(loop, g); });
+      auto [best, k] = Best(
+          with, [&](double g) { return reqs[j].quantity(loop, g); }, GainScale(loop));
       out = {"no gain gives " + reqs[j].text + " with " + reqs[i].text + "; the best " +
                  reqs[j].name + " with " + reqs[i].text + " is " + Num(best) + ", at K = " + Num(k),
              reqs[j].name, reqs[i].name, best, k};

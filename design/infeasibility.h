@@ -27,7 +27,8 @@ struct Infeasibility {
   std::string requirement;  // the one that cannot be met: "stability", "zeta", "wn", ...
   std::string with;         // the one it conflicts with (empty when alone)
   double best = 0.0;        // the best value of `requirement`'s quantity found
-  double best_gain = 0.0;   // where
+  double best_gain = 0.0;   // where (0 for "as K -> 0": no stable loop, and no gain comes
+                            // closer to one than the open loop's own poles)
 };
 
 // Precondition: FindLocusBand(loop, region) is empty.

@@ -201,5 +201,33 @@ TEST_CASE("infeasible alone: wn beyond anything a stable loop reaches") {
   CHECK(why.best == doctest::Approx(std::sqrt(2.0)).epsilon(1e-3));
 }
 
+TEST_CASE("no stable gain at all: a finite closest approach, also when the search is unbounded") {
+  // P control of 1/s^2: s^2 + K has the roots +-j sqrt(K), on the imaginary axis for every K.
+  // PI control of it: s^3 + K s + K Z lacks the s^2 term, so it is never Hurwitz (Routh-Hurwitz:
+  // every coefficient of a stable polynomial is positive); its dominant root stays in the right
+  // half-plane. The search over [0, inf) used to sample inf * 1e-4 and fail on a NaN.
+  LoopPolynomials p =
+      LoopPolynomials::FromPolynomials(Polynomial({1.0, 0.0, 0.0}), Polynomial({1.0}));
+  Infeasibility why = DiagnoseInfeasible(p, Region{});
+  CHECK(why.requirement == "stability");
+  CHECK(why.best == doctest::Approx(0.0).scale(1.0).epsilon(1e-9));
+  CHECK(std::isfinite(why.best_gain));
+  CHECK(why.sentence.find("no gain K > 0 gives a stable loop") == 0);
+  CHECK(why.sentence.find(" nan") == std::string::npos);
+  CHECK(why.sentence.find("-nan") == std::string::npos);
+  LoopPolynomials pi = LoopPolynomials::ForGain(TransferFunction({1.0}, {1.0, 0.0, 0.0}),
+                                                Controller::Parse("pi:1"), 3);
+  Infeasibility why_pi = DiagnoseInfeasible(pi, Region{});
+  CHECK(why_pi.requirement == "stability");
+  // Its dominant real part falls towards 0 only as K -> 0 (the roots tend to those of s^3):
+  // the closest approach is that limit, said as such, and no gain does better.
+  CHECK(why_pi.best == doctest::Approx(0.0).scale(1.0).epsilon(1e-12));
+  CHECK(why_pi.best_gain == 0.0);
+  CHECK(why_pi.sentence.find("as K -> 0") != std::string::npos);
+  for (double k = 1e-6; k < 1e6; k *= 1.5) {
+    CHECK(JudgeGain(pi, Region{}, k).dominant.real() > why_pi.best);
+  }
+}
+
 }  // namespace
 }  // namespace lw
