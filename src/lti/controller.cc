@@ -85,6 +85,20 @@ Controller Controller::Parse(std::string_view text) {
       c.p_ = ParseField(text, parts[3], "pole P", *info);
       break;
   }
+  // A zero at s = 0 cancels the integrator's pole there: the loop keeps a pole at s = 0 that
+  // no gain moves (a mode the controller can neither see nor drive), so no band exists.
+  if (c.kind_ == Kind::kPI && c.z1_ == 0.0) {
+    throw UsageError("controller '" + whole +
+                     "': the zero Z is 0 rad/s, which cancels the integrator's pole at s = 0 and "
+                     "leaves a closed-loop pole there at every gain; use p, or Z != 0");
+  }
+  if (c.kind_ == Kind::kPID && (c.z1_ == 0.0 || c.z2_ == 0.0)) {
+    const double other = c.z1_ == 0.0 ? c.z2_ : c.z1_;
+    throw UsageError("controller '" + whole + "': the zero " + (c.z1_ == 0.0 ? "Z1" : "Z2") +
+                     " is 0 rad/s, which cancels the integrator's pole at s = 0 and leaves a "
+                     "closed-loop pole there at every gain; use lead:" +
+                     ShortestText(other) + ":" + ShortestText(c.p_) + ", or zeros != 0");
+  }
   if ((c.kind_ == Kind::kLead || c.kind_ == Kind::kPID) && !(c.p_ > 0.0)) {
     throw UsageError("controller '" + whole + "': the pole P is " + ShortestText(c.p_) +
                      " rad/s but must be > 0 rad/s");

@@ -4,7 +4,9 @@
 //   pi:Z           C(s) = K (s + Z) / s
 //   lead:Z:P       C(s) = K (s + Z) / (s + P)
 //   pid:Z1:Z2:P    C(s) = K (s + Z1)(s + Z2) / (s (s + P))
-// Z, Z1, Z2 and P are in rad/s. Zeros may be any finite real; P must be > 0.
+// Z, Z1, Z2 and P are in rad/s. Zeros may be any finite real except that pi and pid refuse a
+// zero at 0 (it would cancel the integrator and leave a closed-loop pole at s = 0 for every
+// gain); P must be > 0.
 #ifndef LOOPWRIGHT_LTI_CONTROLLER_H_
 #define LOOPWRIGHT_LTI_CONTROLLER_H_
 

@@ -103,6 +103,19 @@ TEST_CASE("controller errors are one clear sentence") {
        "the pole P '1e999' is not a finite number; expected lead:Z:P (zero and pole in rad/s)"},
       {"lead:1:0", "the pole P is 0 rad/s but must be > 0 rad/s"},
       {"pid:1:2:-4", "the pole P is -4 rad/s but must be > 0 rad/s"},
+      // K s / s has the closed-loop polynomial s (den + K num): a root at 0 for every K.
+      {"pi:0",
+       "the zero Z is 0 rad/s, which cancels the integrator's pole at s = 0 and leaves a "
+       "closed-loop pole there at every gain; use p, or Z != 0"},
+      {"pi:-0",
+       "the zero Z is 0 rad/s, which cancels the integrator's pole at s = 0 and leaves a "
+       "closed-loop pole there at every gain; use p, or Z != 0"},
+      {"pid:0:2:8",
+       "the zero Z1 is 0 rad/s, which cancels the integrator's pole at s = 0 and leaves a "
+       "closed-loop pole there at every gain; use lead:2:8, or zeros != 0"},
+      {"pid:0.5:0:8",
+       "the zero Z2 is 0 rad/s, which cancels the integrator's pole at s = 0 and leaves a "
+       "closed-loop pole there at every gain; use lead:0.5:8, or zeros != 0"},
   };
   for (const auto& [text, what] : cases) {
     CAPTURE(text);
