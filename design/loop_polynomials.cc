@@ -77,19 +77,43 @@ std::string LowFrequencyText(const TransferFunction& g) {
   return text;
 }
 
+// The highest-power coefficient (0 for the zero polynomial; leading zeros are trimmed).
+double LeadingCoefficient(const Polynomial& p) {
+  return p.coefficients().empty() ? 0.0 : p.coefficients().front();
+}
+
+// The sign LowFrequencySign gives for numerator n over denominator d.
+int FollowingSign(const Polynomial& n, const Polynomial& d) {
+  return LowestCoefficient(n) * LeadingCoefficient(d) < 0.0 ? -1 : 1;
+}
+
 }  // namespace
 
 std::string PositiveFeedbackNote(const LoopPolynomials& loop, const TransferFunction& plant) {
   if (loop.LowFrequencySign() > 0) return "";
-  return "the plant's gain is negative (" + LowFrequencyText(plant) +
-         "), so every controller gain K > 0 feeds back positively and drives y away from r; "
-         "loopwright designs loops where K > 0 is negative feedback: turn the sign at the rig "
-         "(the actuator's or the measurement's direction) and record the step test again";
+  const std::string turn =
+      "; loopwright designs loops where K > 0 is negative feedback: turn the sign at the rig "
+      "(the actuator's or the measurement's direction) and record the step test again";
+  if (FollowingSign(plant.num(), plant.den()) > 0) {
+    // The plant alone would follow r: the controller's shape reverses the loop.
+    return "the controller's zeros make its low-frequency gain negative (a zero in the right "
+           "half-plane), so no gain K > 0 gives a stable loop in which y follows r; choose "
+           "zeros > 0 rad/s (in the left half-plane)";
+  }
+  if (LowestCoefficient(plant.den()) * LeadingCoefficient(plant.den()) > 0.0) {
+    return "the plant's gain is negative (" + LowFrequencyText(plant) +
+           "), so every controller gain K > 0 feeds back positively and drives y away from r" +
+           turn;
+  }
+  // An unstable plant: G(0) may have either sign; what counts is the coefficient pair.
+  return "the plant is unstable and its numerator's lowest coefficient (" +
+         SignificantText(LowestCoefficient(plant.num()), 4) +
+         ") and its denominator's leading coefficient (" +
+         SignificantText(LeadingCoefficient(plant.den()), 4) +
+         ") have opposite signs, so no gain K > 0 gives a stable loop in which y follows r" + turn;
 }
 
-int LoopPolynomials::LowFrequencySign() const {
-  return LowestCoefficient(b) * LowestCoefficient(a) < 0.0 ? -1 : 1;
-}
+int LoopPolynomials::LowFrequencySign() const { return FollowingSign(b, a); }
 
 double LoopPolynomials::FrequencyScale() const {
   // Vieta: the product of the nonzero roots' magnitudes is |c_low / c_lead|, c_low the lowest

@@ -49,16 +49,24 @@ struct LoopPolynomials {
   // (Vieta: the nonzero roots of c_0 s^n + ... + c_k s^(n-k), c_k the lowest nonzero
   // coefficient, multiply to |c_k / c_0| in magnitude), so no roots are solved for.
   double FrequencyScale() const;
-  // The sign of b(s)/a(s) as s -> 0+, from their lowest nonzero coefficients (a Padé factor is 1
-  // there): +1 when a gain K > 0 closes a negative feedback loop at low frequency, -1 when the
-  // plant (a reverse-acting process: more actuator, less output) or the controller shape
-  // reverses it, so that every K > 0 feeds back positively and drives y away from r.
+  // Whether a loop that a gain K > 0 makes stable follows r: +1 when it does, -1 when no stable
+  // loop with K > 0 does. A stable a + K b has every coefficient of the sign of its leading
+  // one, which is a's (degree b < degree a), so the closed loop K b / (a + K b) starts at low
+  // frequency with the sign of b's lowest nonzero coefficient times a's leading coefficient
+  // (a Padé factor is 1 at s = 0 and has a positive leading denominator coefficient). For an
+  // open-loop stable a, whose lowest and leading coefficients share a sign, this is the sign
+  // of K C(s) G(s) as s -> 0+: -1 for a reverse-acting plant (more actuator, less output) or a
+  // controller zero in the right half-plane. For an unstable plant such as 1/(s - 1), whose
+  // G(0) < 0, it is +1: K > 1 makes the loop stable and y follows r (Routh-Hurwitz on
+  // s - 1 + K). (A biproper loop, degree b = degree a, is judged at small K.)
   int LowFrequencySign() const;
 };
 
 // Empty when loop.LowFrequencySign() > 0; otherwise one sentence saying that no gain K > 0 can
-// be designed for it, naming the plant's low-frequency gain ("G(0) = -1.5", or
-// "G(s) -> -0.8/s as s -> 0"). A band of such a loop would be a band of positive feedback.
+// be designed for it and why: the plant's negative gain, named ("G(0) = -1.5", or
+// "G(s) -> -0.8/s as s -> 0"); an unstable plant's coefficient signs; or, when the plant alone
+// would follow r, the controller's zeros. A band of such a loop would be a band of positive
+// feedback.
 std::string PositiveFeedbackNote(const LoopPolynomials& loop, const TransferFunction& plant);
 
 }  // namespace lw

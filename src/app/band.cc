@@ -173,7 +173,9 @@ class BandCommand : public Command {
         "the simulated step; with an empty response band nothing is recommended (exit 0), and\n"
         "with neither a locus nor a response band the command exits 1 naming the spec no gain\n"
         "can meet. A plant with a negative gain (reverse acting) is refused with exit 1: every\n"
-        "K > 0 would feed back positively.");
+        "K > 0 would feed back positively; so is any loop in which no stable K > 0 makes y\n"
+        "follow r (a controller zero in the right half-plane). An unstable plant such as\n"
+        "1/(s-1) is designed although G(0) < 0: K > 1 stabilises it.");
     source_.Add(sub);
     controller_.Add(sub, /*gain_required=*/false, /*with_gain=*/false);
     specs_.Add(sub);

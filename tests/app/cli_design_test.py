@@ -387,6 +387,40 @@ def case_reverse_acting():
     check(not os.path.exists(path("cl.csv")), "verify wrote no recording")
 
 
+def case_unstable_plant():
+    # An open-loop unstable plant is not reverse-acting because G(0) < 0: under P control
+    # 1/(s - 1) closes to K/(s - 1 + K), stable for K > 1 (Routh-Hurwitz) with the positive gain
+    # K/(K - 1), and its 10-90 % rise time is ln(9)/(K - 1) (first order, closed form), so
+    # rise <= 0.5 s holds exactly for K >= 1 + 2 ln 9.
+    code, out, err = run("band", "--plant", "1/(s-1)", "--rise-max", "0.5", "--json")
+    check(code == 0, f"band of 1/(s-1) exits 0 (got {code}: {err.strip()!r})")
+    if code == 0:
+        resp = json.loads(out)["bands"]["response"]
+        check(len(resp) == 1 and close(resp[0][0], 1 + 2 * math.log(9), 1e-4) and resp[0][1] is None,
+              f"response band [1 + 2 ln 9, inf) ({resp!r})")
+    # 1/(1 - s) = -1/(s - 1) has G(0) = +1, but s - 1 - K is unstable for every K > 0.
+    code, _, err = run("band", "--plant", "1/(1-s)")
+    check(code == 1 and "the plant is unstable" in err and "no gain K > 0" in err,
+          f"band of 1/(1-s) refuses with the reason (exit 1, got {code}: {err!r})")
+    # A PI zero in the right half-plane reverses a direct-acting plant's loop: the sentence
+    # blames the controller, not the plant's gain.
+    code, _, err = run("band", "--plant", "exp(-2*s)/(s+1)", "--controller", "pi:-1")
+    check(code == 1 and "the controller's zeros" in err and "G(0)" not in err,
+          f"a right-half-plane PI zero is named as the cause (exit 1, got {code}: {err!r})")
+    # A zero at s = 0 cancels the integrator: refused as a usage error before any design.
+    code, _, err = run("band", "--plant", "exp(-2*s)/(s+1)", "--controller", "pi:0")
+    check(code == 2 and "cancels the integrator" in err,
+          f"pi:0 is refused with the reason (exit 2, got {code}: {err!r})")
+    # No gain stabilises a double integrator under P or PI control (s^2 + K, s^3 + K s + K Z:
+    # a missing coefficient is never Hurwitz): one sentence, exit 1, no NaN.
+    for ctl in ("p", "pi:1"):
+        code, _, err = run("band", "--plant", "1/s^2", "--controller", ctl)
+        lines = [l for l in err.splitlines() if l.strip()]
+        check(code == 1 and len(lines) == 1 and "no gain K > 0 gives a stable loop" in err
+              and "nan" not in err.replace("dominant", ""),
+              f"1/s^2 under {ctl}: one sentence, exit 1 (got {code}: {err!r})")
+
+
 def case_unstable_predict():
     # 2/(s + 1)^3 under P control is unstable for K > 4 (Routh-Hurwitz: s^3 + 3 s^2 + 3 s + 1 + 2K
     # needs 3 * 3 > 1 + 2K). A diverging record has no rise, overshoot, peak or settling time:

@@ -30,6 +30,27 @@ TEST_CASE("low-frequency sign: direct- and reverse-acting plants, integrating, w
   CHECK(sign(reverse_delay, pi) == -1);
   CHECK(sign(reverse_integrating, p) == -1);
   CHECK(sign(inverse_response, p) == 1);  // a right-half-plane zero, positive dc gain
+  // Open-loop unstable plants. 1/(s - 1) has G(0) = -1, yet K > 1 makes s - 1 + K stable
+  // (Routh-Hurwitz) and the closed loop K/(s - 1 + K) has a positive gain K/(K - 1): it follows
+  // r. 1/(1 - s) = -1/(s - 1) has G(0) = +1, yet s - 1 - K is unstable for every K > 0.
+  const TransferFunction unstable({1.0}, {1.0, -1.0});
+  const TransferFunction unstable_reversed({1.0}, {-1.0, 1.0});
+  CHECK(sign(unstable, p) == 1);
+  CHECK(sign(unstable_reversed, p) == -1);
+  CHECK(PositiveFeedbackNote(LoopPolynomials::ForGain(unstable, p, 3), unstable).empty());
+  const std::string unstable_note =
+      PositiveFeedbackNote(LoopPolynomials::ForGain(unstable_reversed, p, 3), unstable_reversed);
+  CHECK(unstable_note.find("the plant is unstable") == 0);
+  CHECK(unstable_note.find("no gain K > 0 gives a stable loop") != std::string::npos);
+  // A PI zero in the right half-plane reverses a direct-acting plant's loop: K (s - 1)/s has
+  // the low-frequency gain -K/s. The sentence blames the controller, not the plant.
+  const Controller pi_rhp = Controller::Parse("pi:-1");
+  CHECK(sign(direct, pi_rhp) == -1);
+  CHECK(sign(reverse, pi_rhp) == 1);  // two reversals: K (s - 1)/s * -2/(s + 1) -> 2K/s
+  const std::string controller_note =
+      PositiveFeedbackNote(LoopPolynomials::ForGain(direct, pi_rhp, 3), direct);
+  CHECK(controller_note.find("the controller's zeros") == 0);
+  CHECK(controller_note.find("G(0)") == std::string::npos);
   CHECK(PositiveFeedbackNote(LoopPolynomials::ForGain(direct, p, 3), direct).empty());
   const std::string note = PositiveFeedbackNote(LoopPolynomials::ForGain(reverse_integrating, p, 3),
                                                 reverse_integrating);
