@@ -533,7 +533,8 @@ Identification Identify(const StepRecording& recording, const FitOptions& option
   }
   if (a.baseline_samples < 5) {
     id.warnings.push_back("only " + std::to_string(a.baseline_samples) +
-                          " samples before the first step: the baseline is uncertain");
+                          (a.baseline_samples == 1 ? " sample" : " samples") +
+                          " before the first step: the baseline is uncertain");
   }
 
   if (options.structure != "auto") {

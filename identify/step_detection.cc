@@ -157,6 +157,14 @@ RecordingAnalysis AnalyseRecording(std::span<const double> t, std::span<const do
   double from_hi = 0.0, from_lo = 0.0;
   LongestRunAt(ya, ta, *ymax, run_hi, from_hi);
   LongestRunAt(ya, ta, *ymin, run_lo, from_lo);
+  // With fewer than 3 baseline samples the noise comes from the whole record, and an exact
+  // (noise-free) record's dead time is a flat run that continues the baseline from the step
+  // on: that is the dead time, not a saturated sensor.
+  auto continues_baseline = [&](double level, double from) {
+    return first < 3 && from == t[first] && level == y[first - 1];
+  };
+  if (continues_baseline(*ymax, from_hi)) run_hi = 0;
+  if (continues_baseline(*ymin, from_lo)) run_lo = 0;
   const bool noisy = base_noise > 1e-9 * std::max(1.0, std::abs(*ymax - *ymin));
   if (noisy && std::max(run_hi, run_lo) >= 3) {
     const bool hi = run_hi >= run_lo;

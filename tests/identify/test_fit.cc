@@ -107,6 +107,33 @@ TEST_CASE("fopdt recovery from exact data and a sensible interval from noisy dat
   CHECK(2.2 < id.model.parameters[0].ci_high);
 }
 
+// A step at the second sample leaves one baseline sample: said once, in the singular; three
+// are plural. The fit itself still recovers exact data, and the flat dead time that continues
+// a one-sample baseline of an exact record is not taken for a clipped output (with under 3
+// baseline samples the noise estimate is the whole record's, which the response's own
+// curvature makes nonzero; this record was refused as clipped at 10 for 13 samples).
+TEST_CASE("a short baseline is warned about, with the count in words that agree") {
+  lw::FitOptions opt;
+  opt.structure = "fopdt";
+  auto baseline_warnings = [&](double ts) {
+    lw::StepRecording rec = FirstOrderRecording(2.2, 6.5, 1.23, 0.1, 60, ts, 3.0, 10.0, 0, 1);
+    lw::Identification id = lw::Identify(rec, opt);
+    std::vector<std::string> found;
+    for (const auto& w : id.warnings) {
+      if (w.find("before the first step") != std::string::npos) found.push_back(w);
+    }
+    CHECK(id.model.values[0] == doctest::Approx(2.2).epsilon(1e-6));
+    return found;
+  };
+  std::vector<std::string> one = baseline_warnings(0.1);
+  REQUIRE(one.size() == 1);
+  CHECK(one[0] == "only 1 sample before the first step: the baseline is uncertain");
+  std::vector<std::string> three = baseline_warnings(0.3);
+  REQUIRE(three.size() == 1);
+  CHECK(three[0] == "only 3 samples before the first step: the baseline is uncertain");
+  CHECK(baseline_warnings(5.0).empty());
+}
+
 // A measured input carries noise, and its first sample is one draw of it: the model must start
 // at rest at the baseline (the mean before the step), not at rest for the first sample's
 // input, or the offset, gain and dead time absorb a start-up transient that is not in the data.
@@ -213,17 +240,15 @@ TEST_CASE("near-tie selection: fewest parameters within the width, then the smal
         -1);
   // Equal k inside the width: a determined entry before an undetermined one, whatever their
   // AICc; outside the width, or with fewer parameters elsewhere, determinedness does not count.
-  CHECK(lw::SelectStructure({8.0, 8.6}, {5, 5}, {true, true}, lw::SelectionOptions{},
-                            {false, true})
+  CHECK(lw::SelectStructure({8.0, 8.6}, {5, 5}, {true, true}, lw::SelectionOptions{}, {false, true})
             .chosen == 1);
-  CHECK(lw::SelectStructure({8.0, 10.6}, {5, 5}, {true, true}, lw::SelectionOptions{},
-                            {false, true})
+  CHECK(
+      lw::SelectStructure({8.0, 10.6}, {5, 5}, {true, true}, lw::SelectionOptions{}, {false, true})
+          .chosen == 0);
+  CHECK(lw::SelectStructure({8.0, 8.6}, {4, 5}, {true, true}, lw::SelectionOptions{}, {false, true})
             .chosen == 0);
-  CHECK(lw::SelectStructure({8.0, 8.6}, {4, 5}, {true, true}, lw::SelectionOptions{},
-                            {false, true})
-            .chosen == 0);
-  CHECK(lw::SelectStructure({8.0, 8.6}, {5, 5}, {true, true}, lw::SelectionOptions{}, {})
-            .chosen == 0);
+  CHECK(lw::SelectStructure({8.0, 8.6}, {5, 5}, {true, true}, lw::SelectionOptions{}, {}).chosen ==
+        0);
   lw::SelectionOptions bad;
   bad.support_width = -1.0;
   CHECK_THROWS_AS(bad.Validate(), lw::UsageError);
