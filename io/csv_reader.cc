@@ -298,7 +298,11 @@ class Parser {
     if (CountCells(line) != ncol) CountFailure(line, ncol);
     const std::string_view text = CellText(cell, line.end);
     if (text.empty()) Fail(c + 1, "empty cell, expected a number");
-    Fail(c + 1, Quote(text) + " is not a number");
+    // "1,5" in a semicolon- or tab-separated file is a decimal comma (a common export setting).
+    const bool decimal_comma = delim_ != ',' && text.find(',') != std::string_view::npos &&
+                               text.find_first_not_of("0123456789+-,eE") == std::string_view::npos;
+    Fail(c + 1, Quote(text) + " is not a number" +
+                    (decimal_comma ? " (a decimal comma? write decimals with a point)" : ""));
   }
 
   const char* p_;

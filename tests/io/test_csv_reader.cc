@@ -106,7 +106,13 @@ TEST_CASE("Error messages name file, line and column") {
   CHECK(ParseError("t,u,y\n0,1e999,1\n") ==
         "run.csv, line 2, column 2: NaN or infinity is not allowed ('1e999')");
   CHECK(ParseError("t,u,y\n0,1.5x,1\n") == "run.csv, line 2, column 2: '1.5x' is not a number");
-  CHECK(ParseError("t;u;y\n0;0,5;1\n") == "run.csv, line 2, column 2: '0,5' is not a number");
+  CHECK(ParseError("t;u;y\n0;0,5;1\n") ==
+        "run.csv, line 2, column 2: '0,5' is not a number (a decimal comma? write decimals with a "
+        "point)");
+  CHECK(ParseError("t\tu\ty\n0\t1\t-2,5e3\n") ==
+        "run.csv, line 2, column 3: '-2,5e3' is not a number (a decimal comma? write decimals "
+        "with a point)");
+  CHECK(ParseError("t;u;y\n0;0,5x;1\n") == "run.csv, line 2, column 2: '0,5x' is not a number");
   CHECK(ParseError("") == "run.csv: no header row (the file is empty)");
   CHECK(ParseError("# only a note\n\n") ==
         "run.csv: no header row (the file is only blank or comment lines)");
