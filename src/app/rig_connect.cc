@@ -29,9 +29,10 @@ std::unique_ptr<RigSession> OpenRigSession(Context& ctx, const ResolvedRig& rig,
 
 std::unique_ptr<RigSession> ConnectRig(Context& ctx, const ResolvedRig& rig,
                                        const StopSignalGuard& guard, bool drives) {
-  if (drives) PrintCautions(ctx, rig);
+  const bool cautioned = drives && PrintCautions(ctx, rig);
   std::unique_ptr<RigSession> session = OpenRigSession(ctx, rig, &guard.flag());
   session->Connect();
+  if (cautioned) RememberCautions(ctx, rig);
   return session;
 }
 

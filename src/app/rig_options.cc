@@ -117,21 +117,27 @@ ResolvedRig RigOptions::Resolve(const Context& ctx) const {
   return r;
 }
 
-void PrintCautions(Context& ctx, const ResolvedRig& rig) {
-  std::filesystem::path marker;
+bool PrintCautions(Context& ctx, const ResolvedRig& rig) {
   if (rig.workspace) {
-    marker = std::filesystem::path(*rig.workspace) / kCautionsMarker;
     std::error_code ec;
-    if (std::filesystem::exists(marker, ec)) return;
+    if (std::filesystem::exists(std::filesystem::path(*rig.workspace) / kCautionsMarker, ec)) {
+      return false;
+    }
   }
   ctx.err << "caution: this command moves a real actuator. Before it does:\n";
   for (const char* line : kCautions) ctx.err << "  - " << line << "\n";
   if (rig.workspace) {
-    ctx.err << "  (shown once for this rig workspace)\n";
-    std::ofstream mark(marker);
-    mark << "the cautions were shown for " << ctx.command_line << "\n";
+    ctx.err << (rig.dry_run ? "  (shown again on the first run that drives this rig)\n"
+                            : "  (shown until a command has driven this rig)\n");
   }
   ctx.err.flush();
+  return true;
+}
+
+void RememberCautions(Context& ctx, const ResolvedRig& rig) {
+  if (!rig.workspace || rig.dry_run) return;
+  std::ofstream mark(std::filesystem::path(*rig.workspace) / kCautionsMarker);
+  mark << "the cautions were shown for " << ctx.command_line << "\n";
 }
 
 void ConfirmDriving(Context& ctx, const ResolvedRig& rig, const std::string& what) {

@@ -69,10 +69,14 @@ class RigOptions {
   bool yes_ = false, dry_run_ = false;
 };
 
-// The safety cautions (README.md, "Safety"), printed on ctx.err the first time a command drives
-// a rig: inside a workspace "first" is remembered there (a file `cautions-shown`), outside one
-// they are printed every time.
-void PrintCautions(Context& ctx, const ResolvedRig& rig);
+// The safety cautions (README.md, "Safety"), printed on ctx.err before a command first drives a
+// rig; true when printed. Inside a workspace "first" is remembered there (a file
+// `cautions-shown`, written by RememberCautions once the rig has answered, so a dry run or a
+// port that would not open does not use them up); outside one they are printed every time.
+bool PrintCautions(Context& ctx, const ResolvedRig& rig);
+// Records in the workspace that the cautions were shown before a command drove the rig (not for
+// a dry run, nor outside a workspace).
+void RememberCautions(Context& ctx, const ResolvedRig& rig);
 
 // Before the first line that moves the actuator: with --dry-run nothing is asked; on a terminal
 // (stdin and stderr) the question "<what>: proceed? [y/N]" must be answered y or yes (else

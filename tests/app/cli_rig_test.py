@@ -10,6 +10,7 @@ for the tune case (its parameters are the truth the fit must recover within 5 %)
 """
 import os
 import re
+import shutil
 import signal
 import subprocess
 import time
@@ -328,6 +329,41 @@ def emulator_notes(err_text, prefix):
             if l.startswith("[rig ") and "] " in l and l.split("] ", 1)[1].startswith(prefix)]
 
 
+def case_cautions():
+    # The safety cautions are shown before a command first drives a workspace's rig, and stay
+    # until one has: a dry run (nothing moves) and a port that does not open (nothing moved)
+    # must not use them up, or the first run that moves the actuator would show none.
+    ws = os.path.join(WORK, "caution_ws")
+    if os.path.exists(ws):
+        shutil.rmtree(ws)
+    code, _, err = run("init", ws, "--name", "caution bench (emulated)", "--actuator", "0:100",
+                       "--trip", "-10:200")
+    check(code == 0, f"init exits 0 ({err.strip()})")
+
+    def apply(port, *extra):
+        return run("--rig", ws, "apply", "--port", port, "--controller", "p", "--gain", "0.5",
+                   "--reference", "10", "--duration", "0.5", "--yes", *extra)
+
+    def cautioned(err):
+        return "emergency stop within reach" in err and "qualified person" in err
+
+    code, _, err = apply("/dev/null/none", "--dry-run")
+    check(code == 0 and cautioned(err), f"a dry run shows the cautions (exit {code}: {err!r})")
+    code, _, err = apply(os.path.join(WORK, "no_such_port"))
+    check(code == 4 and cautioned(err),
+          f"after a dry run they are shown again, here for a port that does not open ({err!r})")
+    emu = Emulator("--plant", "2/(0.5*s+1)", "--rate", "100", "--speed", "4")
+    code, _, err = apply(emu.where)
+    emu.stop()
+    check(code == 0 and cautioned(err),
+          f"the first run that drives the rig shows them (exit {code}: {err!r})")
+    emu = Emulator("--plant", "2/(0.5*s+1)", "--rate", "100", "--speed", "4")
+    code, _, err = apply(emu.where)
+    emu.stop()
+    check(code == 0 and not cautioned(err),
+          f"once a command has driven the rig they are not repeated (exit {code}: {err!r})")
+
+
 def case_apply():
     # apply closes the emulated rig's loop at the gain asked for, and the rig runs with it.
     # Plant 2/(0.5 s + 1) from rest at u = 0. Proportional control at K = 1.5 around r = 30:
@@ -527,7 +563,6 @@ def case_tune():
     emu = Emulator("--scenario", "conveyor-drive", "--speed", "8", "--seed", "5")
     out_dir = os.path.join(WORK, "tune_run")
     if os.path.isdir(out_dir):
-        import shutil
         shutil.rmtree(out_dir)
     code, out, err = run("tune", "--port", emu.where, "--controller", "pi:1.2", "--yes",
                          "--structure", "fopdt", "--overshoot-max", "10", "--dir", out_dir,
