@@ -169,6 +169,59 @@ SolveReport Reweight(Prepared& data, Structure s, SolveReport report,
   return report;
 }
 
+// The loss' psi(r) and psi'(r) for the scale `a` (Huber: a = 1.345 s, Cauchy: a = 2.385 s).
+void Psi(FitOptions::Robust robust, double a, double r, double& psi, double& dpsi) {
+  if (robust == FitOptions::Robust::kHuber) {
+    const bool inside = std::abs(r) <= a;
+    psi = inside ? r : std::copysign(a, r);
+    dpsi = inside ? 1.0 : 0.0;
+  } else {  // Cauchy: rho = a^2/2 log(1 + (r/a)^2)
+    const double q = (r / a) * (r / a);
+    psi = r / (1.0 + q);
+    dpsi = (1.0 - q) / ((1.0 + q) * (1.0 + q));
+  }
+}
+
+// The covariance of a robust (M-estimate) fit: Huber's sandwich estimate
+//   K^2 [sum psi(r)^2 / (n - p)] / [sum psi'(r) / n]^2 (J'J)^-1,
+//   K = 1 + (p / n) var(psi') / mean(psi')^2
+// (Huber, Robust Statistics, 1981, sec. 7.6; from memory), with r the unweighted residuals at
+// the solution and J'J unweighted. The final weighted problem's s_w^2 (J'WJ)^-1 counts what the
+// loss left of each spike (a Huber weight keeps |r| a of it) as noise, and widened the
+// intervals of a spiky record twice over. Replaces report's covariance (rank test included).
+void RobustCovariance(const OutputErrorProblem& plain, const std::vector<bool>& fixed,
+                      FitOptions::Robust robust, SolveReport& report) {
+  std::vector<double> yhat = PredictOutput(plain, report.x);
+  std::vector<double> r(yhat.size());
+  for (size_t k = 0; k < r.size(); ++k) r[k] = yhat[k] - plain.y[k];
+  const double scale = std::max(1.4826 * MedianAbs(r), 1e-300);
+  const double a = (robust == FitOptions::Robust::kHuber ? 1.345 : 2.385) * scale;
+  const double n = static_cast<double>(r.size());
+  const double p = report.free_parameters;
+  if (!(n > p)) return;
+  double psi2 = 0.0, d1 = 0.0, d2 = 0.0;
+  for (double v : r) {
+    double psi = 0.0, dpsi = 0.0;
+    Psi(robust, a, v, psi, dpsi);
+    psi2 += psi * psi;
+    d1 += dpsi;
+    d2 += dpsi * dpsi;
+  }
+  const double mean = d1 / n;
+  if (!(mean > 0.0)) return;  // keep the weighted problem's covariance
+  const double var = std::max(0.0, d2 / n - mean * mean);
+  const double k = 1.0 + (p / n) * var / (mean * mean);
+  const double factor = k * k * (psi2 / (n - p)) / (mean * mean);
+  // ComputeOutputErrorCovariance scales (J'J)^-1 by rss / (n - p): hand it that product.
+  SolveReport plain_report = report;
+  plain_report.residuals = r.size();
+  plain_report.rss = factor * (n - p);
+  ComputeOutputErrorCovariance(plain, fixed, plain_report);
+  report.covariance = std::move(plain_report.covariance);
+  report.covariance_ok = plain_report.covariance_ok;
+  report.rank_deficiency = plain_report.rank_deficiency;
+}
+
 // The block length that reduces n samples to about `points` blocks, and to at least 20 blocks
 // per input step (at most 10 `points` in all) so a square wave keeps its shape; odd, so that
 // each output window is centred on its instant; 1 keeps every sample.
@@ -367,6 +420,11 @@ FitResult FitStructure(Structure s, const StepRecording& rec, const RecordingAna
     report = Reweight(full, s, report, fixed, lo, hi, options.robust, so);
     fpb = full.problem();
     fpb.structure = s;
+    if (report.covariance_ok) {
+      OutputErrorProblem plain = fpb;
+      plain.weight = {};
+      RobustCovariance(plain, fixed, options.robust, report);
+    }
   }
 
   FitResult fit;

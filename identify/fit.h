@@ -40,8 +40,11 @@
 //
 // Robust option: iteratively reweighted least squares with Ceres' Huber (a = 1.345 s) or Cauchy
 // (a = 2.385 s) loss, s the robust residual scale 1.4826 MAD; the constants give 95 % efficiency
-// on Gaussian noise (Holland & Welsch 1977; from memory). The covariance is then that of the
-// final weighted problem.
+// on Gaussian noise (Holland & Welsch 1977; from memory). The covariance is then Huber's
+// sandwich estimate K^2 [sum psi(r)^2 / (n - p)] / [sum psi'(r) / n]^2 (J'J)^-1 with
+// K = 1 + (p/n) var(psi') / mean(psi')^2 (Huber, Robust Statistics, 1981; from memory): the
+// spikes the loss discounts do not widen the intervals, as they would in the final weighted
+// problem's s_w^2 (J'WJ)^-1.
 #ifndef LOOPWRIGHT_IDENTIFY_FIT_H_
 #define LOOPWRIGHT_IDENTIFY_FIT_H_
 
