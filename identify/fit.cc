@@ -5,6 +5,7 @@
 #include <cmath>
 #include <memory>
 #include <numbers>
+#include <optional>
 #include <sstream>
 
 #include <ceres/loss_function.h>
@@ -220,6 +221,22 @@ void RobustCovariance(const OutputErrorProblem& plain, const std::vector<bool>& 
   report.covariance = std::move(plain_report.covariance);
   report.covariance_ok = plain_report.covariance_ok;
   report.rank_deficiency = plain_report.rank_deficiency;
+}
+
+// Widens a fit's uncertainty by the variance ratio `ratio` (the covariance by it, standard
+// deviations and intervals by its square root, about each value).
+void ScaleUncertainty(FitResult& f, double ratio) {
+  const double root = std::sqrt(ratio);
+  f.covariance *= ratio;
+  auto widen = [&](ParameterEstimate& e) {
+    if (!std::isfinite(e.sd)) return;
+    e.sd *= root;
+    e.ci_low = e.value - root * (e.value - e.ci_low);
+    e.ci_high = e.value + root * (e.ci_high - e.value);
+  };
+  for (ParameterEstimate& e : f.parameters) widen(e);
+  widen(f.output_offset);
+  if (f.output_drift) widen(*f.output_drift);
 }
 
 // The block length that reduces n samples to about `points` blocks, and to at least 20 blocks
@@ -555,10 +572,14 @@ Identification Identify(const StepRecording& recording, const FitOptions& option
     }
   }
   id.samples_in = use->t.size();
+  std::optional<RecordingAnalysis> raw;  // of the record before decimation
   if (use->t.size() > options.decimate_above) {
     id.decimation =
         static_cast<int>((use->t.size() + options.decimate_to - 1) / options.decimate_to);
-    AnalyseRecording(use->t, use->u, use->y);  // refuse bad data before filtering hides it
+    // Refuse bad data before filtering hides it, and keep the baselines: the filter smears a
+    // step over the samples before it, which would move the decimated record's baseline means
+    // (and so the input deviation the gain is measured against).
+    raw = AnalyseRecording(use->t, use->u, use->y);
     own = Decimate(*use, id.decimation);
     use = &own;
     id.warnings.push_back("the record was decimated by " + std::to_string(id.decimation) + " (" +
@@ -567,7 +588,18 @@ Identification Identify(const StepRecording& recording, const FitOptions& option
   }
   const StepRecording& rec = *use;
   RecordingAnalysis a = AnalyseRecording(rec.t, rec.u, rec.y);
+  if (raw) {
+    a.input_baseline = raw->input_baseline;
+    a.output_baseline = raw->output_baseline;
+  }
   id.analysis = a;
+  // The fit of the record as used: a decimated record's residuals are filtered noise, whose
+  // low-frequency density the white-noise covariance understates (preprocess.h).
+  auto FitDecimated = [&](Structure s, const FitResult* seed) {
+    FitResult f = FitStructure(s, rec, a, options, seed);
+    if (id.decimation > 1) ScaleUncertainty(f, DecimatedNoiseRatio(id.decimation));
+    return f;
+  };
   if (a.steps.size() > 1) {
     id.warnings.push_back(std::to_string(a.steps.size()) +
                           " steps found in the input (all used by the fit)");
@@ -604,7 +636,7 @@ Identification Identify(const StepRecording& recording, const FitOptions& option
                      options);
       seed_ptr = &seed;
     }
-    id.model = FitStructure(s, rec, a, options, seed_ptr);
+    id.model = FitDecimated(s, seed_ptr);
     if (!id.model.converged) {
       throw JobFailed("the " + std::string(StructureName(s)) +
                       " fit did not converge (Ceres: " + id.model.termination + ")");
@@ -630,7 +662,7 @@ Identification Identify(const StepRecording& recording, const FitOptions& option
       const FitResult* seed = s == Structure::kFopdt       ? nullptr
                               : s == Structure::kSopdtZero ? &sopdt
                                                            : &fopdt;
-      FitResult f = FitStructure(s, rec, a, options, seed);
+      FitResult f = FitDecimated(s, seed);
       if (s == Structure::kFopdt) fopdt = f;
       if (s == Structure::kSopdt) sopdt = f;
       c.usable = f.converged;

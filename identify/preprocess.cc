@@ -38,7 +38,10 @@ StepRecording SelectWindow(const StepRecording& rec, double t0, double t1) {
   return out;
 }
 
-StepRecording Decimate(const StepRecording& rec, int factor) {
+namespace {
+
+// The anti-alias filter's taps for decimation by `factor` (see preprocess.h), unit DC gain.
+std::vector<double> AntiAliasTaps(int factor) {
   if (factor < 2)
     throw UsageError("decimation factor " + std::to_string(factor) + ": must be >= 2");
   const int half = 4 * factor;
@@ -53,11 +56,29 @@ StepRecording Decimate(const StepRecording& rec, int factor) {
     sum += taps[k + half];
   }
   for (double& w : taps) w /= sum;  // unit DC gain
+  return taps;
+}
+
+}  // namespace
+
+double DecimatedNoiseRatio(int factor) {
+  double sum2 = 0.0;
+  for (double w : AntiAliasTaps(factor)) sum2 += w * w;
+  return 1.0 / (factor * sum2);
+}
+
+StepRecording Decimate(const StepRecording& rec, int factor) {
+  const std::vector<double> taps = AntiAliasTaps(factor);
   std::vector<double> uf = FirLowPass(rec.u, taps), yf = FirLowPass(rec.y, taps);
+  // The fit holds each kept input value over the next interval [t_i, t_i + M h). Held from
+  // t_i, the value at t_i would lag the smooth filtered input by half an interval (the dead
+  // time came out M h / 2 short, its interval excluding the truth); the value at the interval's
+  // middle, i + M/2, holds it without lag (error second order in M h).
+  const size_t m = static_cast<size_t>(factor), n = rec.t.size();
   StepRecording out;
-  for (size_t i = 0; i < rec.t.size(); i += static_cast<size_t>(factor)) {
+  for (size_t i = 0; i < n; i += m) {
     out.t.push_back(rec.t[i]);
-    out.u.push_back(uf[i]);
+    out.u.push_back(uf[std::min(n - 1, i + m / 2)]);
     out.y.push_back(yf[i]);
   }
   return out;

@@ -221,6 +221,41 @@ TEST_CASE("known step without an input column: step at and size from the user") 
   CHECK(id.model.output_offset.value == doctest::Approx(10.0).epsilon(1e-6));
 }
 
+// White noise through the anti-alias filter: the variance per kept sample is s^2 sum(w^2), its
+// low-frequency density (measured as M' times the variance of means of M' consecutive kept
+// samples) is s^2 / M, and DecimatedNoiseRatio is the quotient (Wiener-Khinchin: the variance of
+// a long mean is the spectral density at 0 over its length; from memory).
+TEST_CASE("decimated white noise: the low-frequency density the fit's intervals allow for") {
+  const int factor = 8;
+  const size_t n = size_t{1} << 21, block = 128;
+  lw::StepRecording noise;
+  std::mt19937_64 gen(31);
+  std::normal_distribution<double> draw(0.0, 1.0);
+  for (size_t i = 0; i < n; ++i) {
+    noise.t.push_back(static_cast<double>(i));
+    noise.u.push_back(0.0);
+    noise.y.push_back(draw(gen));
+  }
+  const lw::StepRecording d = lw::Decimate(noise, factor);
+  const size_t kept = d.y.size() / block * block;
+  double var = 0.0, mean_var = 0.0;
+  for (size_t i = 0; i < kept; ++i) var += d.y[i] * d.y[i];
+  var /= static_cast<double>(kept);
+  for (size_t b = 0; b < kept; b += block) {
+    double m = 0.0;
+    for (size_t i = b; i < b + block; ++i) m += d.y[i];
+    m /= static_cast<double>(block);
+    mean_var += m * m;
+  }
+  mean_var /= static_cast<double>(kept / block);
+  const double ratio = lw::DecimatedNoiseRatio(factor);
+  CHECK(ratio > 1.3);
+  CHECK(ratio < 1.5);  // 1 / 0.8 for an ideal 0.8-band low-pass; the window's skirt adds
+  CHECK(block * mean_var * factor == doctest::Approx(1.0).epsilon(0.1));  // s^2 / M
+  CHECK(block * mean_var / var == doctest::Approx(ratio).epsilon(0.1));
+  CHECK_THROWS_AS(lw::DecimatedNoiseRatio(1), lw::UsageError);
+}
+
 TEST_CASE("long records are decimated after the anti-alias filter, and say so") {
   const FirstOrder truth{1.2, 2.0, 0.4};
   const size_t n = 30000;
@@ -238,6 +273,18 @@ TEST_CASE("long records are decimated after the anti-alias filter, and say so") 
   CHECK(RelErr(id.model.values[0], truth.gain) < 0.01);
   CHECK(RelErr(id.model.values[1], truth.tau) < 0.02);
   CHECK(std::abs(id.model.values[2] - truth.dead) < 0.006);  // one decimated sample period
+
+  // Noise-free, the decimated fit must not bias the dead time or the gain: the input held
+  // from each kept instant lagged the filtered input by half an interval (the dead time came
+  // out about half a decimated sample short), and the filter's smear of the step moved the
+  // baseline mean before it (the gain 0.05 % off on a clean step).
+  lw::StepRecording exact = ClosedFormStep(truth, 0.001, n, 1.0, 1.0, 0.0, 0.0, 5);
+  lw::Identification clean = lw::Identify(exact, o);
+  REQUIRE(clean.decimation == 6);
+  CHECK(clean.analysis.input_baseline == 0.0);
+  CHECK(RelErr(clean.model.values[0], truth.gain) < 1e-4);
+  CHECK(RelErr(clean.model.values[1], truth.tau) < 1e-3);
+  CHECK(std::abs(clean.model.values[2] - truth.dead) < 0.1 * 0.006);  // a tenth of a sample
 
   // At the threshold nothing is decimated and nothing is said.
   lw::FitOptions at = o;
