@@ -31,6 +31,7 @@
 // Every output path (-o, --plot) is checked before anything is read or written: a figure with an
 // unknown extension, an output folder that does not exist or -o equal to --plot is refused (exit
 // 2) with no file left.
+#include <algorithm>
 #include <cmath>
 #include <limits>
 #include <optional>
@@ -294,6 +295,14 @@ class FitCommand : public Command {
         id.warnings = loop_fit->warnings;
       } else {
         id = Identify(data, options);
+        const auto [r_lo, r_hi] = std::minmax_element(rec.r.begin(), rec.r.end());
+        if (rec.has_r && !rec.r.empty() && *r_lo != *r_hi) {
+          id.warnings.push_back(
+              "the recording has a reference column '" + columns_.names().reference +
+              "' that changes: if it ran under feedback, u follows the output's noise and an "
+              "open-loop fit can be biased (a spurious zero, a shifted dead time); "
+              "fit --closed-loop --controller C --gain K fits the plant inside the loop");
+        }
       }
     } catch (const DataError& e) {
       throw DataError(path_ + ": " + e.what());

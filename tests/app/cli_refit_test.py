@@ -154,6 +154,19 @@ def case_closed_loop():
         check(rel < 0.15, f"{p['name']} {p['value']:.4g} within 15 % of the card's {truth[p['name']]}")
     check(doc["closed_loop"]["controller"] == "pi:0.005", "closed_loop.controller")
     check(doc["units"]["time"] == "s", "units.time")
+    check(not any("--closed-loop" in w for w in doc["warnings"]),
+          f"the closed-loop fit does not advise itself ({doc['warnings']})")
+    # Fitted as if open loop, the record's changing reference column says what it may be:
+    # u then follows the output's noise, which biases an output-error fit.
+    plain = fit_json(os.path.join(REC, "heater_zone_closed_loop.csv"), "--structure", "sopdt")
+    if plain is not None:
+        check(any("reference column 'r' that changes" in w and "--closed-loop" in w
+                  for w in plain["warnings"]),
+              f"an open-loop fit of closed-loop data points to --closed-loop ({plain['warnings']})")
+    step = fit_json(os.path.join(REC, "heater_zone_step.csv"), "--structure", "sopdt")
+    if step is not None:
+        check(not any("reference column" in w for w in step["warnings"]),
+              "a step test without a reference column gets no such warning")
     # auto: every structure fitted inside the loop, in seconds (it once never finished: a dead
     # time a hair off a whole number of samples stalled the loop simulation); the card's
     # structure is chosen (identify/structure_selection.h: the smallest AICc, or the structure
