@@ -7,6 +7,7 @@
 #include <random>
 #include <string>
 
+#include "design/applied_gain.h"
 #include "design/parallel_for.h"
 #include "lti/error.h"
 #include "lti/number_text.h"
@@ -707,6 +708,23 @@ ClosedLoopCheck CheckClosedLoop(const TransferFunction& plant,
   c.predicted_y = std::move(nominal.y);
   c.predicted_u = std::move(nominal.u);
   Conclude(c);
+  // A verdict about the wrong loop: the recorded actuator follows another gain through the
+  // controller's shape (applied_gain.h). Not for a saturated record, whose u is clipped.
+  if (has_u && c.verdict != CheckVerdict::kSaturated) {
+    const AppliedGain a =
+        EstimateAppliedGain(controller, record.t, record.r, record.u, record.y, k0);
+    c.applied_gain = a.gain;
+    c.applied_gain_fit_percent = a.fit_percent;
+    if (a.fit_percent >= 90.0 && std::isfinite(a.gain) && std::abs(a.gain / gain - 1.0) > 0.05) {
+      c.notes.push_back("the recorded actuator follows K = " + Num(a.gain) + " (" +
+                        controller.ToString() + ", fit " + Num(a.fit_percent) +
+                        " %) on the recorded error, not the K = " + Num(gain) +
+                        " given: check the gain and controller the rig ran before you refit");
+      if (c.verdict == CheckVerdict::kStale) {
+        c.reason += " (unless the gain given is not the one the rig ran: see the warning)";
+      }
+    }
+  }
   return c;
 }
 

@@ -184,6 +184,12 @@ struct ClosedLoopCheck {
   // step (the means of the two halves of the samples before it differ by more than 4 of their
   // standard errors plus the settling band of the first step): the prediction assumes rest.
   std::vector<std::string> notes;
+  // The gain the recorded actuator follows through the controller's shape and how closely
+  // (design/applied_gain.h; NaN without an actuator column or when saturated). When it fits
+  // >= 90 % and differs from the gain given by more than 5 %, `notes` says so and a stale
+  // verdict's reason names it: the check would be about a loop the rig did not run.
+  double applied_gain = std::numeric_limits<double>::quiet_NaN();
+  double applied_gain_fit_percent = std::numeric_limits<double>::quiet_NaN();
 };
 
 // plant: the model (nominal); draws: plausible plants from its uncertainty (may be empty);

@@ -8,6 +8,7 @@ from how they were made: a closed-loop recording of the plant a model was fitted
 25 % is `stale`, one whose actuator sat at its limit is `saturated`.
 """
 import json
+import re
 import os
 import random
 import xml.etree.ElementTree as ET
@@ -111,6 +112,22 @@ def case_demo():
     # The recording's own noise (its card: sd 0.15 degC, then quantised to 0.1 degC, which makes
     # the median-based estimate coarse) is what check estimates.
     check(0.12 < doc["noise"]["output_sd"] < 0.2, f"noise sd near 0.15 ({doc['noise']})")
+    # The recorded heater power is u = K (s + 0.005)/s applied to r - y with K = 1.2 (the card);
+    # the record shows that gain (within the output noise the error carries), so no note.
+    applied = doc["applied_gain"]
+    check(abs(applied["gain"] - 1.2) < 0.02 and applied["fit_percent"] > 95,
+          f"the record shows K = 1.2 ({applied})")
+    check(not any("recorded actuator follows" in n for n in doc["notes"]), f"no note ({doc['notes']})")
+    # Given the wrong gain, the model looks stale; the check says the record ran another gain.
+    code, out, err = run("check", path("zone.json"), "--controller", "pi:0.005", "--gain", "0.6",
+                         os.path.join(rec_dir, "heater_zone_closed_loop.csv"), "--actuator",
+                         "0:100", "--json")
+    wrong = json.loads(out) if out.strip() else {}
+    check(code == 1 and wrong.get("verdict") == "stale", f"K = 0.6: stale, exit 1 (got {code})")
+    check(any(re.search(r"recorded actuator follows K = 1\.(19|20)\d* ", n) and "not the K = 0.6 given" in n
+              for n in wrong.get("notes", [])), f"the note names both gains ({wrong.get('notes')})")
+    check("the gain given is not the one the rig ran" in wrong.get("reason", ""),
+          f"the stale reason points to it ({wrong.get('reason')!r})")
     root = ET.parse(path("zone_check.svg")).getroot()
     lines = [e for e in root.iter() if e.tag.endswith("polyline") or e.tag.endswith("path")]
     check(len(lines) > 5, "the figure is an SVG with drawn series")
