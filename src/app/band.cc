@@ -76,13 +76,6 @@ json LocusEdgesJson(const LocusBand& band) {
   return a;
 }
 
-std::string PoleText(std::complex<double> p) {
-  if (!std::isfinite(p.real())) return "";
-  std::string s = FormatNumber(p.real(), 4);
-  if (std::abs(p.imag()) > 1e-12 * std::abs(p)) s += " ± j" + FormatNumber(std::abs(p.imag()), 4);
-  return s;
-}
-
 std::string EdgeText(const BandEdge& e) {
   if (e.boundary == Boundary::kGainZero) return "from K = 0";
   if (e.boundary == Boundary::kUnbounded) return "no upper limit";

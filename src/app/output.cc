@@ -88,6 +88,17 @@ std::string FormatQuantity(double v, std::string_view unit, int significant) {
   return s;
 }
 
+std::string PoleText(std::complex<double> p) {
+  if (!std::isfinite(p.real())) return "";
+  std::string s = FormatNumber(p.real(), 4);
+  if (std::abs(p.imag()) > 1e-12 * std::abs(p)) s += " ± j" + FormatNumber(std::abs(p.imag()), 4);
+  return s;
+}
+
+bool ListedPole(std::complex<double> p) {
+  return p.imag() > 0.0 || std::abs(p.imag()) <= 1e-12 * std::abs(p);
+}
+
 nlohmann::json JsonNumber(double v) {
   if (!std::isfinite(v)) return nullptr;
   return v;

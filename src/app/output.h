@@ -7,6 +7,7 @@
 #ifndef LOOPWRIGHT_APP_OUTPUT_H_
 #define LOOPWRIGHT_APP_OUTPUT_H_
 
+#include <complex>
 #include <iosfwd>
 #include <string>
 #include <string_view>
@@ -37,6 +38,13 @@ EstimateText FormatEstimate(double value, double low, double high, int significa
 // FormatNumber followed by a space and the unit when the unit is not empty: "3.2 s"; NaN is
 // "n/a" alone.
 std::string FormatQuantity(double v, std::string_view unit, int significant = 4);
+
+// A pole (or zero) as text: "-2" when real (an imaginary part below 1e-12 |p| counts as none),
+// "-1.5 ± j2.398" for a complex one, which stands for the conjugate pair; "" when not finite.
+std::string PoleText(std::complex<double> p);
+// Whether p is the member of a conjugate pair that PoleText lists (imag > 0) or real: a list of
+// poles shows each pair once.
+bool ListedPole(std::complex<double> p);
 
 // A JSON number, or null when v is NaN or infinite (JSON has no such numbers).
 nlohmann::json JsonNumber(double v);

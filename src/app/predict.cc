@@ -40,12 +40,6 @@ namespace {
 
 using nlohmann::json;
 
-std::string PoleText(std::complex<double> p) {
-  std::string s = FormatNumber(p.real(), 4);
-  if (p.imag() != 0.0) s += (p.imag() < 0 ? " - j" : " + j") + FormatNumber(std::abs(p.imag()), 4);
-  return s;
-}
-
 // The prediction as one JSON document (printed by --json, written by --save; the report reads
 // it: io/report.h, src/app/report.cc).
 json PredictionJson(const Prediction& p, const Controller& controller, const LoadedModel& model,
@@ -220,7 +214,7 @@ class PredictCommand : public Command {
                          : std::string())
         << ":";
     for (const auto& s : p.poles) {
-      if (s.imag() >= 0.0) out << "  " << PoleText(s);
+      if (ListedPole(s)) out << "  " << PoleText(s);
     }
     out << (p.stable ? "" : "  " + Bad(ctx, "UNSTABLE")) << "\n";
     if (p.dominant.imag() > 0.0) {

@@ -257,12 +257,9 @@ class SimulateCommand : public Command {
       }
     }
     if (unstable) {
-      Warn(ctx,
-           "the closed loop is unstable at K = " + FormatNumber(controller_.gain(), 6) +
-               " (a pole at s = " + FormatNumber(unstable->real(), 4) +
-               (unstable->imag() != 0.0 ? " +/- j" + FormatNumber(std::abs(unstable->imag()), 4)
-                                        : std::string()) +
-               "): the record diverges, so it has no step metrics");
+      Warn(ctx, "the closed loop is unstable at K = " + FormatNumber(controller_.gain(), 6) +
+                    " (a pole at s = " + PoleText(*unstable) +
+                    "): the record diverges, so it has no step metrics");
     }
     if (json_) {
       PrintJsonSummary(ctx, model, closed, names, limits, limits_reached, metrics, step_time,

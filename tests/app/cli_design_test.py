@@ -424,7 +424,13 @@ def case_unstable_plant():
 def case_unstable_predict():
     # 2/(s + 1)^3 under P control is unstable for K > 4 (Routh-Hurwitz: s^3 + 3 s^2 + 3 s + 1 + 2K
     # needs 3 * 3 > 1 + 2K). A diverging record has no rise, overshoot, peak or settling time:
-    # they are n/a in the text and null in JSON, whatever the record's length.
+    # they are n/a in the text and null in JSON, whatever the record's length. The poles (numpy
+    # roots of s^3 + 3 s^2 + 3 s + 21: -3.714 and 0.3572 +/- j2.351) are listed once each, the
+    # pair as such.
+    code, out, err = run("predict", "--plant", "2/((s+1)^3)", "--gain", "10")
+    line = next((l for l in out.splitlines() if "closed-loop poles" in l), "")
+    check(line.split(":", 1)[-1].split() == ["-3.714", "0.3572", "±", "j2.351", "UNSTABLE"],
+          f"the poles, the pair as one entry ({line!r})")
     code, out, err = run("predict", "--plant", "2/((s+1)^3)", "--gain", "10", "--json")
     check(code == 0, f"predict of an unstable loop exits 0 ({err!r})")
     doc = json.loads(out)

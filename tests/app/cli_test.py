@@ -170,7 +170,7 @@ def case_simulate_closed():
                          "step:0:1:1", "--rate", "50", "--duration", "30", "-o",
                          path("unstable.csv"), "--json")
     check(code == 0 and os.path.exists(path("unstable.csv")), f"unstable loop still simulated ({err})")
-    check("unstable" in err and "0.3572" in err, f"the warning names the pole ({err!r})")
+    check("unstable" in err and "0.3572 ± j2.351" in err, f"the warning names the pair ({err!r})")
     check(json.loads(out)["metrics"] is None, "no step metrics for a diverging record")
     code, out, err = run("simulate", "--plant", "2/((s+1)^3)", "--gain", "3.9", "--reference",
                          "step:0:1:1", "--rate", "50", "--duration", "60", "-o",
