@@ -3,10 +3,10 @@
 // Each fitted parameter of the rig across the fits in its logbook (app/workspace.h), with its
 // 95 % interval, and every change from one fit to the next tested against the two fits'
 // uncertainties (identify/parameter_change.h: two-sample z test at the 5 % level): a change
-// with |z| > 1.96 is flagged "significant". Only fits that succeeded (outcome "ok") of one
-// structure are compared, by default the structure of the latest fit; parameters of another
-// structure mean other things. Exit status 0 whether or not something drifted; 1 when the
-// logbook holds no such fit.
+// with |z| > 1.96 is flagged "changed" (as fit --compare says it). Only fits that succeeded
+// (outcome "ok") of one structure are compared, by default the structure of the latest fit;
+// parameters of another structure mean other things. Exit status 0 whether or not something
+// drifted; 1 when the logbook holds no such fit.
 #include <cmath>
 #include <filesystem>
 #include <map>
@@ -194,7 +194,7 @@ class DriftCommand : public Command {
                       FormatNumber(c->change_percent, 3) + " %)";
           }
           std::string verdict = !c->significant   ? "unknown (no interval)"
-                                : *c->significant ? Bad(ctx, "significant")
+                                : *c->significant ? Bad(ctx, "changed")
                                                   : "within uncertainty";
           row.insert(row.end(), {change, FormatNumber(c->z, 3), verdict});
         }

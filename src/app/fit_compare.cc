@@ -261,8 +261,8 @@ void PrintComparison(const Context& ctx, const ModelComparison& c) {
     if (std::isfinite(p.change_percent)) change += " (" + FormatNumber(p.change_percent, 2) + " %)";
     SummaryCell verdict = p.significant
                               ? (*p.significant ? SummaryCell("changed", CellMark::kCaution)
-                                                : SummaryCell("same", CellMark::kOk))
-                              : SummaryCell("unknown");
+                                                : SummaryCell("within uncertainty", CellMark::kOk))
+                              : SummaryCell("unknown (no interval)");
     const EstimateText before = FormatEstimate(p.before.value, p.before.ci_low, p.before.ci_high);
     const EstimateText after = FormatEstimate(p.after.value, p.after.ci_low, p.after.ci_high);
     t.AddRow({p.name + (p.unit.empty() || p.unit == "-" ? "" : " [" + p.unit + "]"), before.value,

@@ -97,6 +97,11 @@ def case_compare_same():
     for p in doc["compare"]["parameters"]:
         check(p["change"] == 0 and p["z"] == 0 and p["significant"] is False,
               f"{p['name']}: refit of the same recording changes nothing ({p})")
+    # In words: no change beyond the uncertainty (not "same": a z test cannot show sameness).
+    code, out, _ = run("fit", os.path.join(REC, "heater_zone_step.csv"), "--compare", path("m.json"))
+    rows = [l for l in out.splitlines() if l.startswith("  gain")]
+    check(code == 0 and rows and rows[-1].rstrip().endswith("within uncertainty"),
+          f"the gain row says within uncertainty ({rows})")
 
 
 def case_band():

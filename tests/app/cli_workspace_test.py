@@ -232,6 +232,9 @@ def case_drift():
     code, out, _ = run("drift", "--rig", ws)
     check(code == 0 and "significant" in out and "before.csv" in out and "after.csv" in out,
           "human drift names the recordings and the verdict")
+    # The same words as fit --compare for the same two-sample z test.
+    check("changed" in out and ("within uncertainty" in out or all(flagged.values())),
+          f"drift's verdicts read 'changed' / 'within uncertainty' ({out!r})")
     code, _, err = run("drift", "--structure", "sopdt", "--rig", ws)
     check(code == 1 and "structure 'sopdt'" in err, f"drift of a structure never fitted ({err.strip()})")
 
