@@ -6,8 +6,20 @@
 
 namespace lw {
 
-Recommendation Recommend(const GainSet& locus, const GainSet& response,
-                         const std::optional<GainSet>& robust) {
+Recommendation Recommend(const GainSet& locus, const GainSet& continuous,
+                         const std::optional<GainSet>& robust,
+                         const std::optional<GainSet>& sampled) {
+  if (sampled && !continuous.empty() && Intersect(continuous, *sampled).empty()) {
+    Recommendation rec;
+    rec.specs_unmet = true;
+    rec.reason =
+        "no gain both meets the specs in the simulated step and keeps the sampled loop's "
+        "dominant pole in the region (the response band " +
+        ToString(continuous) + " misses the sampled band " + ToString(*sampled) +
+        "): sample faster, or relax the specs";
+    return rec;
+  }
+  const GainSet response = sampled ? Intersect(continuous, *sampled) : continuous;
   struct Option {
     GainSet set;
     const char* source;
@@ -60,6 +72,10 @@ Recommendation Recommend(const GainSet& locus, const GainSet& response,
     rec.source = o.source;
     rec.reason =
         "geometric middle of " + ToString(GainSet{rec.range}) + ", the widest range " + o.where;
+    if (sampled) {
+      rec.source += ", sampled";
+      rec.reason += ", within the sampled band";
+    }
     return rec;
   }
   return rec;

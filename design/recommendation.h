@@ -40,8 +40,13 @@ struct Recommendation {
   std::string set_name = "none";
 };
 
+// With `sampled` (the band of the loop sampled by a digital controller, discrete_band.h) the
+// response band is first narrowed to it, so the recommended gain also keeps the sampled loop's
+// dominant pole in the region; when the two miss each other nothing is recommended
+// (specs_unmet, the reason says so).
 Recommendation Recommend(const GainSet& locus, const GainSet& response,
-                         const std::optional<GainSet>& robust);
+                         const std::optional<GainSet>& robust,
+                         const std::optional<GainSet>& sampled = std::nullopt);
 
 }  // namespace lw
 

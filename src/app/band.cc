@@ -162,8 +162,9 @@ class BandCommand : public Command {
         "  response  the simulated step (exact dead time) meets the specs themselves\n"
         "  robust    the region holds for 95 % of plants drawn from the fit's covariance\n"
         "The recommended gain is the geometric middle of the widest range of the first non-empty\n"
-        "of: robust and response, locus and response, response. It always meets the specs in\n"
-        "the simulated step; with an empty response band nothing is recommended (exit 0), and\n"
+        "of: robust and response, locus and response, response (with --sample-time each within\n"
+        "the sampled band). It always meets the specs in the simulated step; with an empty\n"
+        "response band nothing is recommended (exit 0), and\n"
         "with neither a locus nor a response band the command exits 1 naming the spec no gain\n"
         "can meet. A plant with a negative gain (reverse acting) is refused with exit 1: every\n"
         "K > 0 would feed back positively; so is any loop in which no stable K > 0 makes y\n"
@@ -234,7 +235,9 @@ class BandCommand : public Command {
       Infeasibility why = DiagnoseInfeasible(loop, region);
       throw JobFailed(why.sentence);
     }
-    Recommendation rec = Recommend(locus.gains(), response.gains(), robust);
+    Recommendation rec =
+        Recommend(locus.gains(), response.gains(), robust,
+                  discrete ? std::optional<GainSet>(discrete->band.gains()) : std::nullopt);
 
     json doc;
     doc["bands"] = {{"locus", RangesJson(locus.gains())},

@@ -3,7 +3,7 @@
 # read by the report, a response without a peak, a band of [0, inf) (no gain recommended) and
 # colour on a terminal.
 foreach(case ogata_band ogata_predict no_peak infeasible unbounded_band errors figures save_report
-             colour reverse_acting unstable_predict unstable_plant region_only)
+             colour reverse_acting unstable_predict unstable_plant sampled_recommendation region_only)
   add_test(NAME app_design_${case}
     COMMAND ${LOOPWRIGHT_PYTHON} ${CMAKE_CURRENT_LIST_DIR}/cli_design_test.py
             $<TARGET_FILE:loopwright> ${PROJECT_SOURCE_DIR}

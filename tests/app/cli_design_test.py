@@ -421,6 +421,23 @@ def case_unstable_plant():
               f"1/s^2 under {ctl}: one sentence, exit 1 (got {code}: {err!r})")
 
 
+def case_sampled_recommendation():
+    # A digital controller sampled every 20 s around 2 exp(-s)/((5 s + 1)(s + 1)) holds a far
+    # smaller band than the continuous loop; the recommended gain must lie inside it (it was the
+    # continuous middle, 0.24, more than three times the sampled band's top).
+    code, out, err = run("band", "--plant", "2*exp(-1*s)/((5*s+1)*(s+1))", "--overshoot-max",
+                         "10", "--sample-time", "20", "--json")
+    check(code == 0, f"band exits 0 ({err.strip()!r})")
+    if code == 0:
+        doc = json.loads(out)
+        sampled = doc["bands"]["discrete"]
+        k = doc["recommended_gain"]
+        check(k is not None and any(lo <= k <= (hi if hi is not None else math.inf)
+                                    for lo, hi in sampled),
+              f"recommended K = {k} lies in the sampled band {sampled}")
+        check("sampled" in doc["recommendation"]["from"], f"and says so ({doc['recommendation']})")
+
+
 def case_unstable_predict():
     # 2/(s + 1)^3 under P control is unstable for K > 4 (Routh-Hurwitz: s^3 + 3 s^2 + 3 s + 1 + 2K
     # needs 3 * 3 > 1 + 2K). A diverging record has no rise, overshoot, peak or settling time:

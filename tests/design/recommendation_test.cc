@@ -79,5 +79,22 @@ TEST_CASE("Recommend finds nothing to recommend in a band of [0, inf) or in no b
   CHECK_FALSE(r.found);
 }
 
+// A digital controller sampled every T s: the recommendation also stays in the sampled loop's
+// band, and says so; when that band misses the response band nothing is recommended.
+TEST_CASE("recommendation inside the sampled band") {
+  Recommendation r = Recommend({{0.0, 0.77}}, {{0.0, 0.76}}, std::nullopt, GainSet{{0.0, 0.068}});
+  REQUIRE(r.found);
+  CHECK(r.gain == doctest::Approx(0.068 / std::sqrt(10.0)));
+  CHECK(r.gain <= 0.068);
+  CHECK(r.source == "locus and response, sampled");
+  CHECK(r.reason.find("within the sampled band") != std::string::npos);
+  // Without it the same bands recommend a gain the sampled loop would not hold.
+  CHECK(Recommend({{0.0, 0.77}}, {{0.0, 0.76}}, std::nullopt).gain > 0.068);
+  Recommendation none = Recommend({{0.0, 0.77}}, {{0.3, 0.76}}, std::nullopt, GainSet{{0.0, 0.1}});
+  CHECK_FALSE(none.found);
+  CHECK(none.specs_unmet);
+  CHECK(none.reason.find("misses the sampled band") != std::string::npos);
+}
+
 }  // namespace
 }  // namespace lw
