@@ -70,6 +70,8 @@ struct RigEmulatorServer::Impl {
   // Pseudo-terminal.
   asio::posix::stream_descriptor pty;
   int pty_device_fd = -1;  // our own open of the device end
+  static constexpr int kQuietPolls = 10;
+  int quiet_polls = 0;  // Drain: consecutive polls that found the device end's queue empty
   // TCP.
   asio::ip::tcp::acceptor acceptor;
   std::optional<asio::ip::tcp::socket> client;
@@ -327,7 +329,11 @@ struct RigEmulatorServer::Impl {
       boost::system::error_code ignored;
       client->shutdown(asio::ip::tcp::socket::shutdown_send, ignored);
     }
-    if ((unread == 0 && !tcp()) || !connected() || Clock::now() >= close_deadline) {
+    // A pseudo-terminal's queue can read empty while the last lines written are still on their
+    // way into it (the kernel moves them in a deferred step): only an empty queue seen on
+    // kQuietPolls consecutive polls, 5 ms apart, means the host has read everything.
+    quiet_polls = (unread == 0 && !tcp()) ? quiet_polls + 1 : 0;
+    if (quiet_polls >= kQuietPolls || !connected() || Clock::now() >= close_deadline) {
       Shutdown();
       return;
     }
