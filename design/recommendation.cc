@@ -55,7 +55,7 @@ Recommendation Recommend(const GainSet& locus, const GainSet& continuous,
   for (const Option& o : options) {
     if (o.set.empty()) continue;
     rec.set = o.set;
-    rec.set_name = o.source;
+    rec.set_name = std::string(o.source) + (sampled ? ", sampled" : "");
     rec.range = Widest(o.set);
     if (rec.range.lo <= 0.0 && std::isinf(rec.range.hi)) {
       // Every gain from 0 up: the specs bound nothing, and no middle of [0, inf) is a choice.
@@ -69,13 +69,9 @@ Recommendation Recommend(const GainSet& locus, const GainSet& continuous,
     }
     rec.found = true;
     rec.gain = GeometricMiddle(rec.range);
-    rec.source = o.source;
-    rec.reason =
-        "geometric middle of " + ToString(GainSet{rec.range}) + ", the widest range " + o.where;
-    if (sampled) {
-      rec.source += ", sampled";
-      rec.reason += ", within the sampled band";
-    }
+    rec.source = rec.set_name;
+    rec.reason = "geometric middle of " + ToString(GainSet{rec.range}) + ", the widest range " +
+                 o.where + (sampled ? ", within the sampled band" : "");
     return rec;
   }
   return rec;

@@ -9,6 +9,7 @@
 #include "app/output.h"
 #include "app/spec_options.h"
 #include "app/summary_table.h"
+#include "design/discrete_band.h"
 #include "design/gain_band.h"
 #include "design/infeasibility.h"
 #include "design/loop_polynomials.h"
@@ -125,6 +126,14 @@ BandFile ReadBandFile(const std::string& path) {
   if (bands.contains("robust") && !bands["robust"].is_null()) {
     b.robust = ReadRanges(bands["robust"], path, "bands.robust");
   }
+  if (doc.contains("discrete")) {
+    const json& d = doc["discrete"];
+    if (!d.is_object() || !d.contains("sample_time") || !d["sample_time"].is_number() ||
+        !(d["sample_time"].get<double>() > 0.0)) {
+      BadField(path, "discrete.sample_time", "must be a number > 0 (seconds)");
+    }
+    b.sample_time = d["sample_time"].get<double>();
+  }
   return b;
 }
 
@@ -158,7 +167,12 @@ BandRecheck RecheckBand(const BandFile& band, const FitResult& fresh,
   if (rc.locus.empty() && rc.response.empty()) {
     rc.infeasible = DiagnoseInfeasible(loop, region).sentence;
   }
-  rc.recommendation = Recommend(rc.locus, rc.response, rc.robust);
+  std::optional<GainSet> sampled;
+  if (band.sample_time) {
+    sampled = FindDiscreteBand(fresh.tf, band.controller, region, *band.sample_time, rc.locus)
+                  .band.gains();
+  }
+  rc.recommendation = Recommend(rc.locus, rc.response, rc.robust, sampled);
   rc.inside_locus = Contains(rc.locus, rc.gain_in_use);
   rc.inside_response = Contains(rc.response, rc.gain_in_use);
   if (rc.robust) rc.inside_robust = Contains(*rc.robust, rc.gain_in_use);

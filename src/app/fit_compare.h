@@ -43,6 +43,9 @@ struct BandFile {
   double recommended_gain = 0.0;
   GainSet locus, response;
   std::optional<GainSet> robust;
+  // The digital controller's sample period (s) when the band was found with --sample-time: the
+  // recheck then recommends within the sampled band too, as band did.
+  std::optional<double> sample_time;
 };
 
 // Reads and checks a band file. DataError naming the file and the field (or "not valid JSON",

@@ -436,6 +436,30 @@ def case_sampled_recommendation():
                                     for lo, hi in sampled),
               f"recommended K = {k} lies in the sampled band {sampled}")
         check("sampled" in doc["recommendation"]["from"], f"and says so ({doc['recommendation']})")
+    # fit --band rechecks a band saved with --sample-time the same way (the old binary
+    # recommended the continuous middle, 0.24, on the refit).
+    code, _, err = run("simulate", "--plant", "2*exp(-1*s)/((5*s+1)*(s+1))", "--input",
+                       "step:0:1:2", "--rate", "10", "--duration", "60", "--noise", "0.005",
+                       "--seed", "3", "-o", path("sampled_step.csv"))
+    check(code == 0, f"simulate the step test ({err.strip()!r})")
+    code, _, err = run("fit", path("sampled_step.csv"), "--structure", "sopdt", "-o",
+                       path("sampled_model.json"))
+    check(code == 0, f"fit it ({err.strip()!r})")
+    code, out, err = run("band", path("sampled_model.json"), "--overshoot-max", "10",
+                         "--sample-time", "20", "--save", path("sampled_band.json"), "--json")
+    check(code == 0, f"band of the model ({err.strip()!r})")
+    if code == 0:
+        saved = json.loads(out)
+        code, out, err = run("fit", path("sampled_step.csv"), "--structure", "sopdt", "--band",
+                             path("sampled_band.json"), "--json")
+        check(code == 0, f"fit --band exits 0 ({err.strip()!r})")
+        if code == 0:
+            recheck = json.loads(out)["compare"]["band"]
+            k = recheck["new"]["recommended_gain"]
+            top = max(hi for _, hi in saved["bands"]["discrete"])
+            check(k is not None and k <= top and "sampled" in recheck["judged_on"],
+                  f"the recheck recommends within the sampled band (K = {k}, top {top}, "
+                  f"{recheck['judged_on']!r})")
 
 
 def case_unstable_predict():
