@@ -133,6 +133,23 @@ Prepared Reduce(const StepRecording& rec, const RecordingAnalysis& a, size_t blo
 }
 
 // Iteratively reweighted least squares for the robust losses.
+// The residuals yhat - y of the unweighted problem at x.
+std::vector<double> Residuals(const OutputErrorProblem& plain, std::span<const double> x) {
+  std::vector<double> r = PredictOutput(plain, x);
+  for (size_t k = 0; k < r.size(); ++k) r[k] -= plain.y[k];
+  return r;
+}
+
+// The robust loss for residuals r (fit.h): Huber at 1.345 s or Cauchy at 2.385 s, s the robust
+// scale 1.4826 MAD of r.
+std::unique_ptr<ceres::LossFunction> RobustLoss(FitOptions::Robust robust,
+                                                const std::vector<double>& r) {
+  const double scale = std::max(1.4826 * MedianAbs(r), 1e-300);
+  if (robust == FitOptions::Robust::kHuber)
+    return std::make_unique<ceres::HuberLoss>(1.345 * scale);
+  return std::make_unique<ceres::CauchyLoss>(2.385 * scale);
+}
+
 SolveReport Reweight(Prepared& data, Structure s, SolveReport report,
                      const std::vector<bool>& fixed, const std::vector<double>& lo,
                      const std::vector<double>& hi, FitOptions::Robust robust,
@@ -141,16 +158,8 @@ SolveReport Reweight(Prepared& data, Structure s, SolveReport report,
     OutputErrorProblem pb = data.problem();
     pb.structure = s;
     pb.weight = {};
-    std::vector<double> yhat = PredictOutput(pb, report.x);
-    std::vector<double> r(yhat.size());
-    for (size_t k = 0; k < r.size(); ++k) r[k] = yhat[k] - data.y[k];
-    const double scale = std::max(1.4826 * MedianAbs(r), 1e-300);
-    std::unique_ptr<ceres::LossFunction> loss;
-    if (robust == FitOptions::Robust::kHuber) {
-      loss = std::make_unique<ceres::HuberLoss>(1.345 * scale);
-    } else {
-      loss = std::make_unique<ceres::CauchyLoss>(2.385 * scale);
-    }
+    const std::vector<double> r = Residuals(pb, report.x);
+    const std::unique_ptr<ceres::LossFunction> loss = RobustLoss(robust, r);
     data.w.resize(r.size());
     for (size_t k = 0; k < r.size(); ++k) {
       double rho[3];
@@ -170,19 +179,6 @@ SolveReport Reweight(Prepared& data, Structure s, SolveReport report,
   return report;
 }
 
-// The loss' psi(r) and psi'(r) for the scale `a` (Huber: a = 1.345 s, Cauchy: a = 2.385 s).
-void Psi(FitOptions::Robust robust, double a, double r, double& psi, double& dpsi) {
-  if (robust == FitOptions::Robust::kHuber) {
-    const bool inside = std::abs(r) <= a;
-    psi = inside ? r : std::copysign(a, r);
-    dpsi = inside ? 1.0 : 0.0;
-  } else {  // Cauchy: rho = a^2/2 log(1 + (r/a)^2)
-    const double q = (r / a) * (r / a);
-    psi = r / (1.0 + q);
-    dpsi = (1.0 - q) / ((1.0 + q) * (1.0 + q));
-  }
-}
-
 // The covariance of a robust (M-estimate) fit: Huber's sandwich estimate
 //   K^2 [sum psi(r)^2 / (n - p)] / [sum psi'(r) / n]^2 (J'J)^-1,
 //   K = 1 + (p / n) var(psi') / mean(psi')^2
@@ -192,18 +188,17 @@ void Psi(FitOptions::Robust robust, double a, double r, double& psi, double& dps
 // intervals of a spiky record twice over. Replaces report's covariance (rank test included).
 void RobustCovariance(const OutputErrorProblem& plain, const std::vector<bool>& fixed,
                       FitOptions::Robust robust, SolveReport& report) {
-  std::vector<double> yhat = PredictOutput(plain, report.x);
-  std::vector<double> r(yhat.size());
-  for (size_t k = 0; k < r.size(); ++k) r[k] = yhat[k] - plain.y[k];
-  const double scale = std::max(1.4826 * MedianAbs(r), 1e-300);
-  const double a = (robust == FitOptions::Robust::kHuber ? 1.345 : 2.385) * scale;
+  const std::vector<double> r = Residuals(plain, report.x);
+  const std::unique_ptr<ceres::LossFunction> loss = RobustLoss(robust, r);
   const double n = static_cast<double>(r.size());
   const double p = report.free_parameters;
   if (!(n > p)) return;
   double psi2 = 0.0, d1 = 0.0, d2 = 0.0;
   for (double v : r) {
-    double psi = 0.0, dpsi = 0.0;
-    Psi(robust, a, v, psi, dpsi);
+    // Ceres' cost is rho(v^2)/2: psi = rho'(v^2) v, psi' = rho'(v^2) + 2 v^2 rho''(v^2).
+    double rho[3];
+    loss->Evaluate(v * v, rho);
+    const double psi = rho[1] * v, dpsi = rho[1] + 2.0 * v * v * rho[2];
     psi2 += psi * psi;
     d1 += dpsi;
     d2 += dpsi * dpsi;
