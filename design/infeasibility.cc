@@ -139,11 +139,12 @@ std::pair<double, double> Best(const GainSet& set, const std::function<double(do
 
 Infeasibility DiagnoseInfeasible(const LoopPolynomials& loop, const Region& region) {
   Infeasibility out;
+  const double scale = GainScale(loop);
   GainSet stable = FindLocusBand(loop, Region{}).gains();
   if (stable.empty()) {
     auto [best, k] = Best(
         {{0.0, std::numeric_limits<double>::infinity()}},
-        [&](double g) { return -JudgeGain(loop, Region{}, g).dominant.real(); }, GainScale(loop));
+        [&](double g) { return -JudgeGain(loop, Region{}, g).dominant.real(); }, scale);
     // As K -> 0 the poles tend to the roots of a (the open loop's own poles): when none of the
     // sampled gains does better, the closest approach is that limit, not a gain.
     double limit = -std::numeric_limits<double>::infinity();
@@ -167,7 +168,7 @@ Infeasibility DiagnoseInfeasible(const LoopPolynomials& loop, const Region& regi
   for (const Requirement& r : reqs) {
     if (!FindLocusBand(loop, r.alone).empty()) continue;
     auto [best, k] = Best(
-        stable, [&](double g) { return r.quantity(loop, g); }, GainScale(loop));
+        stable, [&](double g) { return r.quantity(loop, g); }, scale);
     out = {"no gain gives " + r.text + " with a stable loop; the best " + r.name + " is " +
                Num(best) + ", at K = " + Num(k),
            r.name, "", best, k};
@@ -179,7 +180,7 @@ Infeasibility DiagnoseInfeasible(const LoopPolynomials& loop, const Region& regi
       if (!FindLocusBand(loop, Merge(reqs[i].alone, reqs[j].alone)).empty()) continue;
       GainSet with = FindLocusBand(loop, reqs[i].alone).gains();
       auto [best, k] = Best(
-          with, [&](double g) { return reqs[j].quantity(loop, g); }, GainScale(loop));
+          with, [&](double g) { return reqs[j].quantity(loop, g); }, scale);
       out = {"no gain gives " + reqs[j].text + " with " + reqs[i].text + "; the best " +
                  reqs[j].name + " with " + reqs[i].text + " is " + Num(best) + ", at K = " + Num(k),
              reqs[j].name, reqs[i].name, best, k};
