@@ -33,6 +33,7 @@
 // 2) with no file left.
 #include <algorithm>
 #include <cmath>
+#include <functional>
 #include <limits>
 #include <optional>
 #include <string>
@@ -295,8 +296,8 @@ class FitCommand : public Command {
         id.warnings = loop_fit->warnings;
       } else {
         id = Identify(data, options);
-        const auto [r_lo, r_hi] = std::minmax_element(rec.r.begin(), rec.r.end());
-        if (rec.has_r && !rec.r.empty() && *r_lo != *r_hi) {
+        if (rec.has_r &&
+            std::adjacent_find(rec.r.begin(), rec.r.end(), std::not_equal_to<>()) != rec.r.end()) {
           id.warnings.push_back(
               "the recording has a reference column '" + columns_.names().reference +
               "' that changes: if it ran under feedback, u follows the output's noise and an "
