@@ -109,7 +109,8 @@ TEST_CASE("robust Huber and Cauchy fits resist spikes that pull the plain fit of
 // The spikes carry no information about the plant, so a robust fit's intervals on the spiked
 // record must be about as wide as the plain fit's on the same record without them, and over
 // noise realisations they must cover the truth about 95 % of the time (Huber's sandwich
-// covariance, identify/fit.h). The final weighted problem's own covariance made them twice as
+// covariance, Huber, Robust Statistics, 1981, from memory, as identify/fit.h computes it; the
+// 90-99 % band is the issue's). The final weighted problem's own covariance made them twice as
 // wide here (every spike left 1.345 s |r| in the weighted residual sum).
 TEST_CASE("robust intervals: as wide as without the spikes, and 95 % coverage") {
   const FirstOrder truth{2.5, 3.0, 0.8};
