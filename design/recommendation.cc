@@ -9,34 +9,35 @@ namespace lw {
 Recommendation Recommend(const GainSet& locus, const GainSet& continuous,
                          const std::optional<GainSet>& robust,
                          const std::optional<GainSet>& sampled) {
-  if (sampled && !continuous.empty() && Intersect(continuous, *sampled).empty()) {
+  if (sampled && sampled->empty() && !continuous.empty()) {
     Recommendation rec;
     rec.specs_unmet = true;
     rec.reason =
-        "no gain both meets the specs in the simulated step and keeps the sampled loop's "
-        "dominant pole in the region (the response band " +
-        ToString(continuous) + " misses the sampled band " + ToString(*sampled) +
-        "): sample faster, or relax the specs";
+        "no gain's sampled step meets the specs, although the continuous loop's does for " +
+        ToString(continuous);
     return rec;
   }
-  const GainSet response = sampled ? Intersect(continuous, *sampled) : continuous;
+  // With a sample time the sampled loop is the one the rig runs: its response band takes the
+  // continuous one's place.
+  const GainSet& response = sampled ? *sampled : continuous;
+  const std::string resp = sampled ? "sampled response" : "response";
   struct Option {
     GainSet set;
-    const char* source;
-    const char* where;
+    std::string source;
+    std::string where;
   };
   std::vector<Option> options;
   if (robust) {
-    options.push_back({Intersect(*robust, response), "robust and response",
-                       "where the robust and response bands overlap"});
+    options.push_back({Intersect(*robust, response), "robust and " + resp,
+                       "where the robust and " + resp + " bands overlap"});
   }
-  options.push_back({Intersect(locus, response), "locus and response",
-                     robust ? "where the locus and response bands overlap (the robust band "
-                              "misses the response band)"
-                            : "where the locus and response bands overlap"});
-  options.push_back({response, "response",
-                     robust ? "of the response band (the locus and robust bands miss it)"
-                            : "of the response band (the locus band misses it)"});
+  options.push_back({Intersect(locus, response), "locus and " + resp,
+                     "where the locus and " + resp + " bands overlap" +
+                         (robust ? " (the robust band misses the " + resp + " band)" : "")});
+  options.push_back(
+      {response, resp,
+       "of the " + resp + " band" +
+           (robust ? " (the locus and robust bands miss it)" : " (the locus band misses it)")});
   Recommendation rec;
   if (response.empty() && (!locus.empty() || (robust && !robust->empty()))) {
     rec.specs_unmet = true;
@@ -45,8 +46,8 @@ Recommendation Recommend(const GainSet& locus, const GainSet& continuous,
     const std::string bands = both          ? "locus and robust bands judge"
                               : with_robust ? "robust band judges"
                                             : "locus band judges";
-    rec.reason = "no gain's simulated step meets the specs (the response band is empty); the " +
-                 bands +
+    rec.reason = "no gain's " + std::string(sampled ? "sampled" : "simulated") +
+                 " step meets the specs (the " + resp + " band is empty); the " + bands +
                  " the dominant pole by the second-order region, which this loop does not "
                  "follow, so " +
                  (both ? "they recommend" : "it recommends") + " nothing";
@@ -55,7 +56,7 @@ Recommendation Recommend(const GainSet& locus, const GainSet& continuous,
   for (const Option& o : options) {
     if (o.set.empty()) continue;
     rec.set = o.set;
-    rec.set_name = std::string(o.source) + (sampled ? ", sampled" : "");
+    rec.set_name = o.source;
     rec.range = Widest(o.set);
     if (rec.range.lo <= 0.0 && std::isinf(rec.range.hi)) {
       // Every gain from 0 up: the specs bound nothing, and no middle of [0, inf) is a choice.
@@ -70,8 +71,8 @@ Recommendation Recommend(const GainSet& locus, const GainSet& continuous,
     rec.found = true;
     rec.gain = GeometricMiddle(rec.range);
     rec.source = rec.set_name;
-    rec.reason = "geometric middle of " + ToString(GainSet{rec.range}) + ", the widest range " +
-                 o.where + (sampled ? ", within the sampled band" : "");
+    rec.reason =
+        "geometric middle of " + ToString(GainSet{rec.range}) + ", the widest range " + o.where;
     return rec;
   }
   return rec;

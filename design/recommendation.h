@@ -31,7 +31,8 @@ struct Recommendation {
   bool specs_unmet = false;  // not found because the response band is empty
   double gain = 0.0;
   GainRange range;     // the range it is the middle of
-  std::string source;  // "robust and response", "locus and response" or "response"
+  std::string source;  // "robust and response", "locus and response" or "response" (with
+                       // a sampled band: "robust and sampled response", ...)
   std::string reason;  // one line, e.g. "geometric middle of [0.31, 0.82], where the robust and
                        // response bands overlap"
   // The first non-empty set of the rule and its name, also when it recommends nothing because
@@ -40,10 +41,11 @@ struct Recommendation {
   std::string set_name = "none";
 };
 
-// With `sampled` (the band of the loop sampled by a digital controller, discrete_band.h) the
-// response band is first narrowed to it, so the recommended gain also keeps the sampled loop's
-// dominant pole in the region; when the two miss each other nothing is recommended
-// (specs_unmet, the reason says so).
+// With `sampled` (the response band of the loop a digital controller samples every T s,
+// response_band.h with sample_time) that band takes the response band's place in the rule and
+// in the names ("locus and sampled response", ...): the rig runs the sampled loop, so its
+// simulated step is the one the recommendation promises. When it is empty while the continuous
+// response band is not, nothing is recommended (specs_unmet; the reason says so).
 Recommendation Recommend(const GainSet& locus, const GainSet& response,
                          const std::optional<GainSet>& robust,
                          const std::optional<GainSet>& sampled = std::nullopt);

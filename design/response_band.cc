@@ -4,11 +4,14 @@
 #include <cmath>
 #include <functional>
 #include <limits>
+#include <optional>
 #include <string>
 
 #include "design/boundary_crossings.h"
+#include "design/discrete_band.h"
 #include "design/loop_polynomials.h"
 #include "design/parallel_for.h"
+#include "design/sampled_step.h"
 #include "lti/error.h"
 #include "lti/simulate.h"
 
@@ -22,6 +25,7 @@ constexpr double kInf = std::numeric_limits<double>::infinity();
 struct PoleScreen {
   std::string failed;
   double duration = 0.0;
+  bool sampled = false;  // simulate the sampled loop (else the continuous one)
 };
 
 bool FailsByPoles(const std::string& failed) {
@@ -63,21 +67,62 @@ PoleScreen ScreenPoles(const LoopPolynomials& loop, double delay, double gain, c
   return screen;
 }
 
+// The sampled loop's screen (response_band.h): unstable when a pole has |z| >= 1; else the
+// record length from the slowest pole, s = ln(z) / T, as ScreenPoles has it. A record of more
+// than kMaxSampledPeriods periods is left to the continuous screen and simulation (nullopt).
+constexpr double kMaxSampledPeriods = 1e6;
+
+std::optional<PoleScreen> ScreenSampledPoles(const LoopPolynomials& sampled, double period,
+                                             double delay, double gain, const Specs& specs) {
+  PoleScreen screen;
+  screen.sampled = true;
+  double slowest = kInf;
+  for (const auto& z : sampled.PolesAt(gain)) {
+    if (!(std::abs(z) < 1.0)) {
+      screen.failed = "unstable";
+      return screen;
+    }
+    if (std::abs(z) > 1e-300) slowest = std::min(slowest, -std::log(std::abs(z)) / period);
+  }
+  const double settle =
+      std::isfinite(slowest) ? 12.0 / slowest + 2.0 * delay : 2.0 * delay + 12.0 * period;
+  if (settle / period > kMaxSampledPeriods) return std::nullopt;
+  double duration = settle;
+  if (specs.settle_max) duration = std::max(duration, 2.0 * *specs.settle_max);
+  if (specs.peak_max) duration = std::max(duration, 3.0 * *specs.peak_max);
+  if (specs.rise_max) duration = std::max(duration, 3.0 * *specs.rise_max);
+  screen.duration = std::min(duration, kMaxSampledPeriods * period);
+  return screen;
+}
+
 // Simulates the unit step over `duration` seconds and judges it against the specs.
 ResponseCheck SimulateAndJudge(const TransferFunction& plant, const Controller& controller,
                                double gain, const Specs& specs, const ResponseBandOptions& options,
-                               double duration) {
+                               double duration, bool sampled) {
   ResponseCheck check;
   check.duration = duration;
-  const int n = options.samples;
+  int n = options.samples;
+  double dt = duration / (n - 1);
+  if (sampled) {
+    // Every sample instant on the grid (a sampled loop's peaks are often at one), the grid a
+    // whole fraction of the period, or a whole multiple of it for a record of many periods.
+    const double period = options.sample_time;
+    const double per = std::floor((n - 1) * period / duration);
+    dt = per >= 1.0 ? period / per : period * std::ceil(duration / period / (n - 1));
+    n = static_cast<int>(std::ceil(duration / dt - 1e-9)) + 1;
+  }
   std::vector<double> t(static_cast<size_t>(n)), r(static_cast<size_t>(n), 1.0);
-  for (int i = 0; i < n; ++i) t[static_cast<size_t>(i)] = duration * i / (n - 1);
+  for (int i = 0; i < n; ++i) {
+    t[static_cast<size_t>(i)] = sampled ? dt * i : duration * i / (n - 1);
+  }
   SimulateOptions so;
   so.initial = SimulateOptions::Initial::kZero;
-  ClosedLoopResponse resp = SimulateClosedLoop(plant, controller, gain, t, r, so);
+  ClosedLoopResponse resp =
+      sampled ? SimulateSampledStep(plant, controller, gain, options.sample_time, t)
+              : SimulateClosedLoop(plant, controller, gain, t, r, so);
   // The step happens at t = 0; the "before" level is the zero initial state.
   std::vector<double> tt(t.size() + 1), yy(t.size() + 1), uu(t.size() + 1);
-  tt[0] = -duration / (n - 1);
+  tt[0] = -dt;
   yy[0] = 0.0;
   uu[0] = 0.0;
   std::copy(t.begin(), t.end(), tt.begin() + 1);
@@ -91,6 +136,7 @@ ResponseCheck SimulateAndJudge(const TransferFunction& plant, const Controller& 
   }
   StepMetricsOptions mo;
   mo.settle_band = specs.settle_band;
+  mo.refine_peak = !sampled;  // a sampled loop's peak is often a corner, on a sample instant
   check.metrics = MeasureStep(tt, yy, 0.0, mo, 1.0, uu);
   const StepMetrics& m = check.metrics;
   double overshoot_cap = kInf;
@@ -120,10 +166,22 @@ struct Judge {
   const Controller& controller;
   const Specs& specs;
   const ResponseBandOptions& options;
-  const LoopPolynomials& loop;
+  const LoopPolynomials& loop;          // the Padé loop
+  const LoopPolynomials* sampled_loop;  // the sampled loop with a sample time, else null
   int simulations = 0;
 
-  PoleScreen Screen(double k) const { return ScreenPoles(loop, plant.delay(), k, specs); }
+  PoleScreen Screen(double k) const {
+    PoleScreen continuous = ScreenPoles(loop, plant.delay(), k, specs);
+    if (sampled_loop && continuous.failed != "too slow") {
+      // "too slow" is the continuous loop's verdict in either case (a creeping loop creeps
+      // sampled too), so that a fast sampling gives the continuous band.
+      if (auto s =
+              ScreenSampledPoles(*sampled_loop, options.sample_time, plant.delay(), k, specs)) {
+        return *s;
+      }
+    }
+    return continuous;
+  }
   ResponseCheck operator()(double k) {
     const PoleScreen screen = Screen(k);
     if (!screen.failed.empty()) {
@@ -132,7 +190,7 @@ struct Judge {
       return c;
     }
     ++simulations;
-    return SimulateAndJudge(plant, controller, k, specs, options, screen.duration);
+    return SimulateAndJudge(plant, controller, k, specs, options, screen.duration, screen.sampled);
   }
 
   // The edge between `in` (meets) and `out` (fails with `fail_out`), by bisection in log K until
@@ -217,6 +275,10 @@ void ResponseBandOptions::Validate() const {
   if (threads < 1) {
     throw UsageError("response band threads = " + std::to_string(threads) + ": it must be >= 1");
   }
+  if (!(std::isfinite(sample_time) && sample_time >= 0.0)) {
+    throw UsageError("response band sample_time = " + std::to_string(sample_time) +
+                     ": it must be 0 (continuous) or a number > 0 (s)");
+  }
 }
 
 GainSet ResponseBand::gains() const {
@@ -225,10 +287,22 @@ GainSet ResponseBand::gains() const {
   return g;
 }
 
+namespace {
+// The sampled loop with a sample time (response_band.h), else nothing.
+std::optional<LoopPolynomials> MaybeSampledLoop(const TransferFunction& plant,
+                                                const Controller& controller,
+                                                const ResponseBandOptions& options) {
+  if (options.sample_time > 0.0) return SampledLoop(plant, controller, options.sample_time);
+  return std::nullopt;
+}
+}  // namespace
+
 ResponseCheck CheckResponse(const TransferFunction& plant, const Controller& controller,
                             double gain, const Specs& specs, const ResponseBandOptions& options) {
+  options.Validate();
   const LoopPolynomials loop = LoopPolynomials::ForGain(plant, controller, options.pade_order);
-  Judge judge{plant, controller, specs, options, loop};
+  const std::optional<LoopPolynomials> sampled = MaybeSampledLoop(plant, controller, options);
+  Judge judge{plant, controller, specs, options, loop, sampled ? &*sampled : nullptr};
   return judge(gain);
 }
 
@@ -236,18 +310,35 @@ ResponseBand FindResponseBand(const TransferFunction& plant, const Controller& c
                               const Specs& specs, const ResponseBandOptions& options) {
   options.Validate();
   specs.Validate();
-  const LoopPolynomials loop = LoopPolynomials::ForGain(plant, controller, options.pade_order);
-  std::vector<BoundaryCrossing> cross = AllCrossings(loop, specs.ToRegion());
+  // The scan range comes from the Padé loop's crossings in either case (the sampled loop's
+  // boundaries are not lines in z); the decade extension finds edges beyond it.
+  const LoopPolynomials pade = LoopPolynomials::ForGain(plant, controller, options.pade_order);
+  const std::optional<LoopPolynomials> sampled = MaybeSampledLoop(plant, controller, options);
+  std::vector<BoundaryCrossing> cross = AllCrossings(pade, specs.ToRegion());
   double lo, hi;
   if (cross.empty()) {
-    std::complex<double> s(0.0, loop.FrequencyScale());
-    double ref = std::abs(loop.a(s)) / std::max(std::abs(loop.b(s)), 1e-300);
+    std::complex<double> s(0.0, pade.FrequencyScale());
+    double ref = std::abs(pade.a(s)) / std::max(std::abs(pade.b(s)), 1e-300);
     lo = ref * 1e-3;
     hi = ref * 1e3;
   } else {
     lo = cross.front().gain / 10.0;
     hi = cross.back().gain * 1.05;
     if (hi / lo < 100.0) hi = lo * 100.0;
+  }
+  if (sampled) {
+    // The sampled loop's own stability edges (often far below the Padé loop's crossings when
+    // the period is long) join the scan range.
+    const DiscreteBand stable =
+        FindDiscreteBand(plant, controller, Region{}, options.sample_time, GainSet{});
+    for (const auto& iv : stable.band.intervals) {
+      for (double g : {iv.lo.gain, iv.hi.gain}) {
+        if (g > 0.0 && std::isfinite(g)) {
+          lo = std::min(lo, g / 10.0);
+          hi = std::max(hi, g * 1.05);
+        }
+      }
+    }
   }
   const int n = options.grid;
   std::vector<double> g(static_cast<size_t>(n));
@@ -257,8 +348,9 @@ ResponseBand FindResponseBand(const TransferFunction& plant, const Controller& c
   }
   // The grid's gains, then the edges, are independent: `threads` threads share each list (the
   // same results for any count, each task being a pure function of its inputs).
-  std::vector<Judge> judges(ParallelWorkers(g.size(), options.threads),
-                            Judge{plant, controller, specs, options, loop});
+  std::vector<Judge> judges(
+      ParallelWorkers(g.size(), options.threads),
+      Judge{plant, controller, specs, options, pade, sampled ? &*sampled : nullptr});
   const auto shared = [&](size_t count, const std::function<void(Judge&, size_t)>& job) {
     ParallelFor(count, static_cast<int>(judges.size()),
                 [&](size_t worker, size_t i) { job(judges[worker], i); });

@@ -36,6 +36,17 @@
 // is simulated (when that end fails after all, the bisection is redone with simulations). The
 // grid's gains, then the edges, are shared by `threads` threads; the result does not depend on
 // how many.
+//
+// Sampled loop (sample_time T > 0): the same search and judgement on the step of the loop a
+// digital controller closes every T seconds (sampled_step.h: the error sampled and held, exact
+// between samples). The pole screen then reads the sampled loop's poles (discrete_band.h
+// SampledLoop): unstable when one has |z| >= 1; otherwise the record length as above from the
+// slowest, s = ln(z) / T (poles at z = 0 left out), capped at 1e6 periods. "too slow" stays the
+// continuous loop's verdict (a creeping loop creeps sampled too; a fast sampling then gives the
+// continuous band). A gain whose slowest mode needs more than 1e6 periods to settle is screened
+// and simulated as the continuous loop instead: the hold's half-period lag is then below 1e-5
+// of that mode's time constant, far below what the metrics resolve. The scan range also covers
+// the sampled loop's stability edges (FindDiscreteBand with no region).
 #ifndef LOOPWRIGHT_DESIGN_RESPONSE_BAND_H_
 #define LOOPWRIGHT_DESIGN_RESPONSE_BAND_H_
 
@@ -51,12 +62,13 @@
 namespace lw {
 
 struct ResponseBandOptions {
-  int samples = 1500;     // per simulated step, >= 100
-  int grid = 40;          // gains scanned, >= 8
-  double rel_tol = 1e-6;  // edge bisection tolerance, 0 < rel_tol < 0.1
-  int pade_order = 3;     // 1..8, only for record lengths and the scan range
-  int threads = 2;        // >= 1, share the grid and the edges; the result does not depend on it
-  void Validate() const;  // throws UsageError naming the field
+  int samples = 1500;        // per simulated step, >= 100
+  int grid = 40;             // gains scanned, >= 8
+  double rel_tol = 1e-6;     // edge bisection tolerance, 0 < rel_tol < 0.1
+  int pade_order = 3;        // 1..8, only for record lengths and the scan range
+  int threads = 2;           // >= 1, share the grid and the edges; the result does not depend on it
+  double sample_time = 0.0;  // s; 0: the continuous loop; > 0 finite: the sampled loop
+  void Validate() const;     // throws UsageError naming the field
 };
 
 struct ResponseCheck {

@@ -6,7 +6,8 @@
 // Noise-free mode (options.noisy == false): initial is the last sample before t_step (y[0] when
 // there is none), final is the last sample. Level crossings (rise_low, rise_high) are the first
 // samples at or beyond the level, interpolated linearly with the sample before. The peak is the
-// largest sample, refined by the parabola through it and its two neighbours. Settling time is
+// largest sample, refined by the parabola through it and its two neighbours (unless
+// refine_peak is false). Settling time is
 // where z last enters the band |z - 1| <= settle_band, interpolated at the band edge.
 //
 // Noisy mode (options.noisy == true), for measured data:
@@ -317,7 +318,7 @@ StepMetrics MeasureStep(std::span<const double> t, std::span<const double> y, do
   const size_t k = static_cast<size_t>(std::max_element(s.begin() + begin, s.end()) - s.begin());
   double z_peak = z[k];
   double t_peak = t[k];
-  if (k > begin && k + 1 < n) {
+  if (k > begin && k + 1 < n && (options.refine_peak || options.noisy)) {
     size_t lo = k - 1, hi = k + 1;
     if (options.noisy) {
       const double w = std::isfinite(rough_rise) ? rough_rise / 3 : 0.0;

@@ -59,6 +59,11 @@ struct StepMetricsOptions {
   // Smallest rise above the final value, as a fraction of |change|, that counts as a peak
   // (has_peak); in [0, 1).
   double peak_min = 0.001;
+  // Noise-free mode: refine the peak by the parabola through the largest sample and its two
+  // neighbours (a smooth peak between samples). false: the largest sample itself, for a
+  // response whose peak is a corner (a sampled loop's, where the held input switches), which
+  // the parabola would overstate.
+  bool refine_peak = true;
   // Validates the fields; throws UsageError naming the field, its value and the rule it broke.
   void Validate() const;
 };

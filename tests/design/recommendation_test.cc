@@ -79,21 +79,25 @@ TEST_CASE("Recommend finds nothing to recommend in a band of [0, inf) or in no b
   CHECK_FALSE(r.found);
 }
 
-// A digital controller sampled every T s: the recommendation also stays in the sampled loop's
-// band, and says so; when that band misses the response band nothing is recommended.
-TEST_CASE("recommendation inside the sampled band") {
+// A digital controller sampled every T s: the sampled loop's response band takes the response
+// band's place; when it is empty while the continuous one is not, nothing is recommended.
+TEST_CASE("recommendation from the sampled response band") {
   Recommendation r = Recommend({{0.0, 0.77}}, {{0.0, 0.76}}, std::nullopt, GainSet{{0.0, 0.068}});
   REQUIRE(r.found);
   CHECK(r.gain == doctest::Approx(0.068 / std::sqrt(10.0)));
-  CHECK(r.gain <= 0.068);
-  CHECK(r.source == "locus and response, sampled");
-  CHECK(r.reason.find("within the sampled band") != std::string::npos);
+  CHECK(r.source == "locus and sampled response");
+  CHECK(r.reason.find("locus and sampled response bands overlap") != std::string::npos);
   // Without it the same bands recommend a gain the sampled loop would not hold.
   CHECK(Recommend({{0.0, 0.77}}, {{0.0, 0.76}}, std::nullopt).gain > 0.068);
-  Recommendation none = Recommend({{0.0, 0.77}}, {{0.3, 0.76}}, std::nullopt, GainSet{{0.0, 0.1}});
+  // The sampled step meets the specs where the continuous one does not (a band of its own).
+  Recommendation own = Recommend({{0.0, 0.77}}, {{0.3, 0.76}}, std::nullopt, GainSet{{0.0, 0.1}});
+  REQUIRE(own.found);
+  CHECK(own.gain == doctest::Approx(0.1 / std::sqrt(10.0)));
+  Recommendation none = Recommend({{0.0, 0.77}}, {{0.3, 0.76}}, std::nullopt, GainSet{});
   CHECK_FALSE(none.found);
   CHECK(none.specs_unmet);
-  CHECK(none.reason.find("misses the sampled band") != std::string::npos);
+  CHECK(none.reason.find("no gain's sampled step meets the specs") != std::string::npos);
+  CHECK(none.reason.find("[0.3, 0.76]") != std::string::npos);
 }
 
 }  // namespace
