@@ -76,6 +76,24 @@ json LocusEdgesJson(const LocusBand& band) {
   return a;
 }
 
+json ResponseEdgesJson(const ResponseBand& band) {
+  json a = json::array();
+  for (const auto& r : band.ranges) {
+    a.push_back({{"lo", {{"gain", JsonNumber(r.lo.gain)}, {"limiting", r.lo.limiting}}},
+                 {"hi", {{"gain", JsonNumber(r.hi.gain)}, {"limiting", r.hi.limiting}}}});
+  }
+  return a;
+}
+
+// One line per range of a response band: the range and what fails beyond each end.
+void PrintResponseRanges(std::ostream& out, const ResponseBand& band, const std::string& indent) {
+  for (const auto& r : band.ranges) {
+    out << indent << ToString(GainSet{{r.lo.gain, r.hi.gain}}) << ": "
+        << (r.lo.limiting.empty() ? "from K = 0" : r.lo.limiting + " fails below") << ", "
+        << (r.hi.limiting.empty() ? "no upper limit" : r.hi.limiting + " fails above") << "\n";
+  }
+}
+
 std::string EdgeText(const BandEdge& e) {
   if (e.boundary == Boundary::kGainZero) return "from K = 0";
   if (e.boundary == Boundary::kUnbounded) return "no upper limit";
@@ -162,9 +180,10 @@ class BandCommand : public Command {
         "  response  the simulated step (exact dead time) meets the specs themselves\n"
         "  robust    the region holds for 95 % of plants drawn from the fit's covariance\n"
         "The recommended gain is the geometric middle of the widest range of the first non-empty\n"
-        "of: robust and response, locus and response, response (with --sample-time each within\n"
-        "the sampled band). It always meets the specs in the simulated step; with an empty\n"
-        "response band nothing is recommended (exit 0), and\n"
+        "of: robust and response, locus and response, response (with --sample-time the sampled\n"
+        "loop's response band in place of the response band: the step of the loop with its\n"
+        "error sampled and held every T s). It always meets the specs in that simulated step;\n"
+        "with an empty response band nothing is recommended (exit 0), and\n"
         "with neither a locus nor a response band the command exits 1 naming the spec no gain\n"
         "can meet. A plant with a negative gain (reverse acting) is refused with exit 1: every\n"
         "K > 0 would feed back positively; so is any loop in which no stable K > 0 makes y\n"
@@ -227,23 +246,30 @@ class BandCommand : public Command {
     }
 
     std::optional<DiscreteBand> discrete;
+    std::optional<ResponseBand> sampled_response;
     if (sample_time_) {
       discrete = FindDiscreteBand(plant, controller, region, *sample_time_, locus.gains());
+      ResponseBandOptions so = ro;
+      so.sample_time = *sample_time_;
+      sampled_response = FindResponseBand(plant, controller, specs, so);
     }
 
-    if (locus.empty() && response.empty()) {
+    if (locus.empty() && response.empty() && !(sampled_response && !sampled_response->empty())) {
       Infeasibility why = DiagnoseInfeasible(loop, region);
       throw JobFailed(why.sentence);
     }
-    Recommendation rec =
-        Recommend(locus.gains(), response.gains(), robust,
-                  discrete ? std::optional<GainSet>(discrete->band.gains()) : std::nullopt);
+    Recommendation rec = Recommend(
+        locus.gains(), response.gains(), robust,
+        sampled_response ? std::optional<GainSet>(sampled_response->gains()) : std::nullopt);
 
     json doc;
     doc["bands"] = {{"locus", RangesJson(locus.gains())},
                     {"response", RangesJson(response.gains())},
                     {"robust", robust ? RangesJson(*robust) : json(nullptr)}};
-    if (discrete) doc["bands"]["discrete"] = RangesJson(discrete->band.gains());
+    if (discrete) {
+      doc["bands"]["discrete"] = RangesJson(discrete->band.gains());
+      doc["bands"]["sampled_response"] = RangesJson(sampled_response->gains());
+    }
     doc["recommended_gain"] = rec.found ? JsonNumber(rec.gain) : json(nullptr);
     doc["recommendation"] = {{"from", rec.found ? json(rec.source) : json(nullptr)},
                              {"rule", rec.reason}};
@@ -252,16 +278,12 @@ class BandCommand : public Command {
     doc["controller"] = controller.ToString();
     doc["plant"] = plant.ToString();
     doc["pade_order"] = loop.pade_order;
-    doc["edges"] = {{"locus", LocusEdgesJson(locus)}, {"response", json::array()}};
-    for (const auto& r : response.ranges) {
-      doc["edges"]["response"].push_back(
-          {{"lo", {{"gain", JsonNumber(r.lo.gain)}, {"limiting", r.lo.limiting}}},
-           {"hi", {{"gain", JsonNumber(r.hi.gain)}, {"limiting", r.hi.limiting}}}});
-    }
+    doc["edges"] = {{"locus", LocusEdgesJson(locus)}, {"response", ResponseEdgesJson(response)}};
     if (robust) doc["robust_draws"] = draws_used;
     if (discrete) {
       doc["discrete"] = {{"sample_time", discrete->period},
                          {"edges", LocusEdgesJson(discrete->band)},
+                         {"response_edges", ResponseEdgesJson(*sampled_response)},
                          {"shrink_percent", JsonNumber(discrete->shrink_percent)}};
     }
     std::vector<std::string> differences =
@@ -312,12 +334,7 @@ class BandCommand : public Command {
     }
     out << Bold(ctx, "response band")
         << " (simulated step meets the specs): " << ToString(response.gains()) << "\n";
-    for (const auto& r : response.ranges) {
-      out << "  " << ToString(GainSet{{r.lo.gain, r.hi.gain}}) << ": ";
-      out << (r.lo.limiting.empty() ? "from K = 0" : r.lo.limiting + " fails below");
-      out << ", " << (r.hi.limiting.empty() ? "no upper limit" : r.hi.limiting + " fails above")
-          << "\n";
-    }
+    PrintResponseRanges(out, response, "  ");
     if (robust) {
       out << Bold(ctx, "robust band") << " (95 % of " << draws_used
           << " parameter draws meet the region): " << ToString(*robust) << "\n";
@@ -326,13 +343,16 @@ class BandCommand : public Command {
     }
     if (robust && !robust_note.empty()) out << "  (" << robust_note << ")\n";
     if (discrete) {
-      out << Bold(ctx, "sampled loop") << " (ZOH, T = " << FormatQuantity(discrete->period, "s")
-          << "): " << ToString(discrete->band.gains());
+      out << Bold(ctx, "sampled loop") << " (error sampled and held every "
+          << FormatQuantity(discrete->period, "s") << "):\n"
+          << "  locus band (dominant poles in the region): " << ToString(discrete->band.gains());
       if (std::isfinite(discrete->shrink_percent)) {
         out << ", " << FormatNumber(discrete->shrink_percent, 3)
-            << " % narrower than the locus band";
+            << " % narrower than the continuous one";
       }
-      out << "\n";
+      out << "\n  response band (its simulated step meets the specs): "
+          << ToString(sampled_response->gains()) << "\n";
+      PrintResponseRanges(out, *sampled_response, "    ");
     }
     if (locus.empty()) {
       out << Caution(ctx, "no gain puts the dominant poles in the region: ")
@@ -350,8 +370,10 @@ class BandCommand : public Command {
       table.AddRow({"robust", "n/a", SummaryCell("no draws", CellMark::kCaution)});
     }
     if (discrete) {
-      table.AddRow({"sampled", ToString(discrete->band.gains()),
+      table.AddRow({"sampled locus", ToString(discrete->band.gains()),
                     Verdict(!discrete->band.empty(), "found", "none")});
+      table.AddRow({"sampled response", ToString(sampled_response->gains()),
+                    Verdict(!sampled_response->empty(), "found", "none")});
     }
     if (rec.found) {
       table.AddRow({"recommended", "K = " + FormatNumber(rec.gain, 4),
@@ -366,11 +388,15 @@ class BandCommand : public Command {
       out << Good(ctx, "recommended gain K = " + FormatNumber(rec.gain, 4)) << ": " << rec.reason
           << "\n";
     } else {
-      out << Caution(ctx, "no recommended gain") << ": " << rec.reason
-          << (rec.unbounded ? "; a spec that limits the gain (--overshoot-max, --zeta-min, "
-                              "--rise-max, --settle-max) gives one\n"
-                            : "; relax a spec, or choose a gain knowing that its simulated step "
-                              "misses the specs (predict shows by how much)\n");
+      out << Caution(ctx, "no recommended gain") << ": " << rec.reason;
+      if (rec.unbounded) {
+        out << "; a spec that limits the gain (--overshoot-max, --zeta-min, --rise-max, "
+               "--settle-max) gives one\n";
+      } else {
+        out << "; " << (sample_time_ ? "sample faster, relax a spec," : "relax a spec,")
+            << " or choose a gain knowing that its simulated step misses the specs (predict "
+               "shows by how much)\n";
+      }
     }
     for (const std::string& f : figures) out << "figure: " << f << "\n";
     if (!out_path_.empty()) out << "band file: " << out_path_ << "\n";

@@ -9,7 +9,6 @@
 #include "app/output.h"
 #include "app/spec_options.h"
 #include "app/summary_table.h"
-#include "design/discrete_band.h"
 #include "design/gain_band.h"
 #include "design/infeasibility.h"
 #include "design/loop_polynomials.h"
@@ -169,8 +168,10 @@ BandRecheck RecheckBand(const BandFile& band, const FitResult& fresh,
   }
   std::optional<GainSet> sampled;
   if (band.sample_time) {
-    sampled = FindDiscreteBand(fresh.tf, band.controller, region, *band.sample_time, rc.locus)
-                  .band.gains();
+    // The band command's rule: the sampled loop's response band in the response band's place.
+    ResponseBandOptions so = ro;
+    so.sample_time = *band.sample_time;
+    sampled = FindResponseBand(fresh.tf, band.controller, band.specs, so).gains();
   }
   rc.recommendation = Recommend(rc.locus, rc.response, rc.robust, sampled);
   rc.inside_locus = Contains(rc.locus, rc.gain_in_use);

@@ -133,8 +133,16 @@ class Builder {
     if (doc.contains("specs")) band.paragraphs.push_back("Specs: " + SpecText(doc["specs"]) + ".");
     ReportTable t{{"band", "gains K"}, {}};
     const json& bands = doc.value("bands", json::object());
-    for (const char* name : {"locus", "response", "robust", "discrete"})
+    for (const char* name : {"locus", "response", "robust"})
       if (bands.contains(name)) t.rows.push_back({name, RangesText(bands[name])});
+    // With a sample time (band --sample-time): the sampled loop's locus and response bands.
+    const json discrete = doc.value("discrete", json::object());
+    const std::string every =
+        discrete.contains("sample_time") ? ", every " + Text(discrete["sample_time"]) + " s" : "";
+    if (bands.contains("discrete"))
+      t.rows.push_back({"sampled locus" + every, RangesText(bands["discrete"])});
+    if (bands.contains("sampled_response"))
+      t.rows.push_back({"sampled response" + every, RangesText(bands["sampled_response"])});
     band.tables.push_back(t);
     if (doc.contains("differences") && doc["differences"].is_array())
       for (const auto& d : doc["differences"]) band.paragraphs.push_back("Note: " + Text(d));
@@ -153,7 +161,9 @@ class Builder {
       gain.paragraphs.push_back("Recommended gain K = " + Text(gain_k) + ".");
     }
     if (!from.is_null())
-      gain.paragraphs.push_back("Rule: " + Text(rule) + " (from the " + Text(from) + " band).");
+      gain.paragraphs.push_back(
+          "Rule: " + Text(rule) + " (from the " + Text(from) +
+          (Text(from).find(" and ") != std::string::npos ? " bands)." : " band)."));
     sections_.push_back(gain);
   }
 

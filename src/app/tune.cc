@@ -10,7 +10,8 @@
 //   2. `fit step.csv` (with --structure, default auto: every structure, chosen by AICc, the fewest
 //      parameters within 2 of the smallest) ->
 //      model.json, fit.svg
-//   3. `band model.json` with the specs (options, else the profile's [specs], else an overshoot
+//   3. `band model.json --sample-time T` (T the rig's sample period, at which it runs the
+//      controller) with the specs (options, else the profile's [specs], else an overshoot
 //      of at most 10 %, common practice) -> band.json; the proposed gain is its recommendation
 //      (or --gain K), refused above the maximum gain
 //   4. the proposal is shown and confirmed (on a terminal, else --yes)
@@ -166,7 +167,7 @@ class TuneCommand : public Command {
     RecordingSummary(ctx, *session, step.path, step.samples);
 
     const std::string actuator = ActuatorRangeText(limits);
-    TunePlan plan = MakePlan(file, controller, rig.specs, "", "", "", actuator, caps.name);
+    TunePlan plan = MakePlan(file, controller, rig.specs, "", "", "", actuator, caps);
     Banner(ctx, 2, "fit a model to the step test");
     Show(ctx, "fit", plan.fit);
 
@@ -180,7 +181,7 @@ class TuneCommand : public Command {
     double b = a + 0.5 * (step.level_after - step.level_before);
     if (ref_step) std::tie(a, b) = *ref_step;
     plan = MakePlan(file, controller, rig.specs, ShortestText(gain), ShortestText(a),
-                    ShortestText(b), actuator, caps.name);
+                    ShortestText(b), actuator, caps);
     Banner(ctx, 4, "proposal");
     ctx.out << "  apply " << controller.ToString() << " at K = " << FormatNumber(gain, 6)
             << " and step the reference " << FormatNumber(a, 6) << " -> " << FormatNumber(b, 6)
@@ -241,11 +242,19 @@ class TuneCommand : public Command {
   // check need them; fit and band do not).
   TunePlan MakePlan(const FileNamer& file, const Controller& controller, const RigSpecs& specs,
                     const std::string& gain, const std::string& a, const std::string& b,
-                    const std::string& actuator, const std::string& rig_name) const {
+                    const std::string& actuator, const RigCaps& caps) const {
+    const std::string& rig_name = caps.name;
     TunePlan p;
     p.fit = {file("step.csv"), "-o", file("model.json"), "--plot", file("fit.svg")};
     if (structure_ != "auto") p.fit.insert(p.fit.end(), {"--structure", structure_});
-    p.band = {file("model.json"), "--controller", controller.ToString(), "-o", file("band.json")};
+    // The rig runs the controller at its sample period: the band is that sampled loop's.
+    p.band = {file("model.json"),
+              "--controller",
+              controller.ToString(),
+              "--sample-time",
+              ShortestText(static_cast<double>(caps.period_us) / 1e6),
+              "-o",
+              file("band.json")};
     AddSpecs(p.band, specs);
     p.predict = {file("model.json"),
                  "--gain",
@@ -291,7 +300,7 @@ class TuneCommand : public Command {
     }
     ctx.out << "\n";
     TunePlan plan = MakePlan(file, controller, specs, k, a, b, ActuatorRangeText(session.limits()),
-                             session.caps().name);
+                             session.caps());
     Banner(ctx, 2, "fit a model to the step test");
     PrintCommand(ctx, "fit", plan.fit);
     Banner(ctx, 3, "the gain band for the specs");

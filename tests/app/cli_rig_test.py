@@ -582,6 +582,16 @@ def case_tune():
             v = params.get(name)
             check(v is not None and abs(v / true - 1) <= 0.05,
                   f"{name} within 5 % of {true} (got {v})")
+        # The band is that of the loop the rig runs: sampled at its own period (the scenario's
+        # 100 Hz), the recommended gain inside the sampled loop's response band.
+        with open(os.path.join(out_dir, "band.json")) as f:
+            band = json.load(f)
+        check(band.get("discrete", {}).get("sample_time") == 0.01,
+              f"the band is the loop sampled at the rig's period ({band.get('discrete')})")
+        k = band.get("recommended_gain")
+        check(k is not None and any(lo <= k <= (hi if hi is not None else float("inf"))
+                                    for lo, hi in band["bands"].get("sampled_response", [])),
+              f"the proposed gain {k} lies in the sampled response band")
         with open(os.path.join(out_dir, "check.json")) as f:
             verdict = json.load(f)
         check(verdict["verdict"] == "confirmed",
