@@ -79,6 +79,18 @@ std::vector<std::string> ParameterNames(Structure s) {
   return {};
 }
 
+ParameterRange PhysicalRange(std::string_view name) {
+  ParameterRange r;
+  if (name == "dead_time" || name == "time_constant" || name == "time_constant_1" ||
+      name == "time_constant_2" || name == "natural_frequency") {
+    r.lo = 0.0;
+  } else if (name == "damping_ratio") {
+    r.lo = 0.0;
+    r.hi = 1.0;
+  }
+  return r;
+}
+
 std::vector<ParameterInfo> ParameterInfos(Structure s, std::string_view input_unit,
                                           std::string_view output_unit) {
   std::string in = input_unit.empty() ? "input" : std::string(input_unit);

@@ -16,6 +16,7 @@
 #ifndef LOOPWRIGHT_IDENTIFY_MODEL_STRUCTURE_H_
 #define LOOPWRIGHT_IDENTIFY_MODEL_STRUCTURE_H_
 
+#include <limits>
 #include <span>
 #include <string>
 #include <string_view>
@@ -44,6 +45,18 @@ struct ParameterInfo {
   std::string name;
   std::string unit;
 };
+
+// The physical range of a parameter, by name: dead_time, the time constants of poles
+// (time_constant, time_constant_1, time_constant_2) and natural_frequency lie in [0, inf),
+// damping_ratio in [0, 1] (the underdamped structure's); every other name (gain,
+// zero_time_constant, output_offset, output_drift) is unbounded. A 95 % interval value +- t sd
+// is symmetric and may reach past it; the range says where the data's interval is cut by
+// physics rather than by the data.
+struct ParameterRange {
+  double lo = -std::numeric_limits<double>::infinity();
+  double hi = std::numeric_limits<double>::infinity();
+};
+ParameterRange PhysicalRange(std::string_view name);
 
 // Parameter names in the structure's fixed order, e.g. fopdt: gain, time_constant, dead_time.
 std::vector<std::string> ParameterNames(Structure s);

@@ -181,10 +181,25 @@ void CheckOutputFolder(const std::string& path, const std::string& option) {
   }
 }
 
-// One parameter row: name, value, 95 % interval, unit.
-std::vector<std::string> EstimateRow(const ParameterEstimate& p) {
-  const EstimateText text = FormatEstimate(p.value, p.ci_low, p.ci_high);
-  return {p.name, text.value, text.interval, p.unit};
+// One parameter row: name, value, 95 % interval, unit. An interval reaching past the
+// parameter's physical range (identify/model_structure.h PhysicalRange) is shown cut at it and
+// marked "*"; `clipped` then gets a line saying so with the symmetric interval's end.
+std::vector<std::string> EstimateRow(const ParameterEstimate& p,
+                                     std::vector<std::string>* clipped = nullptr) {
+  const ParameterRange range = PhysicalRange(p.name);
+  const double lo = std::max(p.ci_low, range.lo), hi = std::min(p.ci_high, range.hi);
+  const bool cut =
+      std::isfinite(p.ci_low) && std::isfinite(p.ci_high) && (lo != p.ci_low || hi != p.ci_high);
+  const EstimateText text = FormatEstimate(p.value, cut ? lo : p.ci_low, cut ? hi : p.ci_high);
+  if (cut && clipped) {
+    const EstimateText raw = FormatEstimate(p.value, p.ci_low, p.ci_high);
+    const bool at_lo = lo != p.ci_low;
+    clipped->push_back(p.name + ": the symmetric 95 % interval reaches " +
+                       (at_lo ? raw.low : raw.high) + ", past the physical bound " +
+                       FormatNumber(at_lo ? range.lo : range.hi) + ": the data do not rule out " +
+                       FormatNumber(at_lo ? range.lo : range.hi));
+  }
+  return {p.name, text.value, text.interval + (cut ? " *" : ""), p.unit};
 }
 
 class FitCommand : public Command {
@@ -446,10 +461,12 @@ class FitCommand : public Command {
             << " per " << (options.input_unit.empty() ? "input" : options.input_unit)
             << ", times in s\n";
     TextTable table({"parameter", "value", "95 % interval", "unit"});
-    for (const auto& p : m.parameters) table.AddRow(EstimateRow(p));
+    std::vector<std::string> clipped;
+    for (const auto& p : m.parameters) table.AddRow(EstimateRow(p, &clipped));
     table.AddRow(EstimateRow(m.output_offset));
     if (m.output_drift) table.AddRow(EstimateRow(*m.output_drift));
     table.Print(ctx.out);
+    for (const std::string& c : clipped) ctx.out << "  * " << c << "\n";
     KeyValueList kv;
     kv.Add("fit", FormatNumber(m.fit_percent) + " %");
     kv.Add("residual rms", FormatNumber(m.residual_rms));

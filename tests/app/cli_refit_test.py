@@ -373,6 +373,44 @@ def case_units_and_text():
         check(units["time_constant"] == "s" and units["dead_time"] == "s", "times in s")
 
 
+def case_physical_bounds():
+    # A first-order plant whose dead time (0.01 s) is a tenth of the sample period, with noise:
+    # y = 5 + 2 * 1 (1 - exp(-(t - 1 - 0.01)/3)) for t >= 1.01, sampled every 0.1 s. The symmetric
+    # 95 % interval value +- t sd of the dead time then reaches below 0, where no dead time can
+    # be; the table shows it cut at 0 and marked, says so under the table, and --json keeps the
+    # symmetric (Wald) interval.
+    rng = random.Random(11)
+    with open(path("tiny_dead.csv"), "w") as f:
+        f.write("t,u,y\n")
+        for i in range(301):
+            t = 0.1 * i
+            y = 5 + (2 * (1 - math.exp(-(t - 1.01) / 3)) if t >= 1.01 else 0)
+            f.write(f"{t:.1f},{1 if t >= 1 - 1e-9 else 0},{y + rng.gauss(0, 0.04)!r}\n")
+    doc = fit_json(path("tiny_dead.csv"), "--structure", "fopdt")
+    if not doc:
+        return
+    ci = {p["name"]: p["ci95"] for p in doc["parameters"]}
+    check(ci["dead_time"][0] < 0 < ci["dead_time"][1],
+          f"the symmetric dead-time interval straddles 0 ({ci['dead_time']})")
+    check(ci["gain"][0] > 0, f"the gain interval lies above 0 ({ci['gain']})")
+    code, out, err = run("fit", path("tiny_dead.csv"), "--structure", "fopdt")
+    check(code == 0, f"fit exits 0 ({err.strip()})")
+    rows = {l.split()[0]: l for l in out.splitlines() if l.strip()}
+    dead = rows.get("dead_time", "")
+    check(re.search(r"\b0 \.\. [0-9.]+ \*", dead) is not None,
+          f"the dead-time row shows the interval from 0, marked * (got {dead!r})")
+    check("*" not in rows.get("gain", "") and "*" not in rows.get("time_constant", ""),
+          "rows inside their physical range are not marked")
+    note = [l for l in out.splitlines() if l.strip().startswith("* dead_time:")]
+    check(len(note) == 1, f"one note under the table for the cut interval ({out!r})")
+    if note:
+        m = re.search(r"reaches (-[0-9.e-]+), past the physical bound 0", note[0])
+        check(m is not None and abs(float(m.group(1)) - ci["dead_time"][0])
+              <= 0.01 * abs(ci["dead_time"][0]) + 1e-9,
+              f"the note gives the symmetric interval's end as in --json ({note[0]!r}, "
+              f"{ci['dead_time'][0]})")
+
+
 def case_errors():
     old_model_and_band()
     with open(path("bad.json"), "w") as f:
