@@ -263,6 +263,9 @@ class TuneCommand : public Command {
                  controller.ToString(),
                  "--reference",
                  "step:" + a + ":" + b + ":0"};
+    // predict judges the overshoot limit band designed for (its only limit option).
+    const auto os = std::find(p.band.begin(), p.band.end(), "--overshoot-max");
+    if (os != p.band.end()) p.predict.insert(p.predict.end(), {*os, *(os + 1)});
     p.check = {file("model.json"),
                "--gain",
                gain,

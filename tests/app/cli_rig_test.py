@@ -472,6 +472,8 @@ def case_tune_dry_run():
     check(f"$ loopwright fit {step_csv} -o" in out, "fit reads the step test's recording")
     check(re.search(r"\$ loopwright predict \S+ --gain K --controller pi:1\.2 "
                     r"--reference step:A:B:0", out) is not None, "predict at K, step A -> B")
+    check(re.search(r"\$ loopwright predict .* --overshoot-max 10\b", out) is not None,
+          "predict judges the overshoot limit band designed for (the default 10 %)")
     check("loop pi:1.2 K A" in out and "ref B" in out, "the closed-loop step's lines, as a plan")
     check(not os.path.exists(out_dir), "a dry run creates no folder")
 
