@@ -276,6 +276,16 @@ class FitCommand : public Command {
 
     Table table = ReadCsv(path_);
     const bool known_step = step_at_.has_value();
+    if (!known_step && !closed_loop_) {
+      try {
+        table.ColumnIndex(columns_.names().input);
+      } catch (const DataError& e) {
+        // A response-only recording is fitted to a known step: say how.
+        throw DataError(std::string(e.what()) +
+                        " (name the input column with --input C, or for a recorded response "
+                        "to a known step give --step-at T --step-size A)");
+      }
+    }
     Recording rec = SelectColumns(table, columns_.names(), /*need_input=*/!known_step,
                                   /*need_output=*/true, /*need_reference=*/closed_loop_, 3);
     options.input_unit = !input_unit_.empty()

@@ -418,8 +418,14 @@ def case_errors():
     with open(path("not_band.json"), "w") as f:
         json.dump({"format": "something-else"}, f)
     rework = os.path.join(REC, "heater_zone_after_rework.csv")
+    with open(path("response_only.csv"), "w") as f:
+        f.write("t,y\n" + "".join(f"{i},{0 if i < 5 else 1 - math.exp(-(i - 5) / 4)!r}\n"
+                                   for i in range(60)))
     out_file = path("never.json")
     cases = [
+        ("response without an input column", ["fit", path("response_only.csv"), "-o", out_file],
+         3, r"response_only\.csv: no column 'u'; columns are t, y \(name the input column with "
+         r"--input C, or for a recorded response to a known step give --step-at T --step-size A\)"),
         ("missing old model", ["fit", rework, "--compare", path("nothing.json"), "-o", out_file], 3,
          r"nothing\.json"),
         ("old model not JSON", ["fit", rework, "--compare", path("bad.json"), "-o", out_file], 3,
