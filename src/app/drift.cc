@@ -183,9 +183,11 @@ class DriftCommand : public Command {
     for (const auto& t : tracks) {
       ctx.out << Bold(ctx, t.name) << (t.unit.empty() ? "" : " (" + t.unit + ")") << "\n";
       TextTable table({"fit", "value", "95 % interval", "change", "z", "verdict"});
+      std::vector<std::string> notes;
       for (size_t i = 0; i < t.estimates.size(); ++i) {
         const EstimateSummary& e = t.estimates[i];
-        const EstimateText text = FormatEstimate(e.value, e.ci_low, e.ci_high);
+        const ParameterText text = FormatParameter(t.name, e.value, e.ci_low, e.ci_high);
+        if (!text.note.empty()) notes.push_back("fit " + std::to_string(i + 1) + ": " + text.note);
         std::vector<std::string> row = {std::to_string(i + 1), text.value, text.interval};
         if (const auto& c = t.changes[i]) {
           std::string change = (c->change >= 0 ? "+" : "") + FormatNumber(c->change);
@@ -201,6 +203,7 @@ class DriftCommand : public Command {
         table.AddRow(row);
       }
       table.Print(ctx.out);
+      for (const std::string& n : notes) ctx.out << "  * " << n << "\n";
     }
     ctx.out << (flagged == 0 ? Good(ctx, "no significant change")
                              : Caution(ctx, std::to_string(flagged) + " significant change" +

@@ -181,30 +181,26 @@ void CheckOutputFolder(const std::string& path, const std::string& option) {
   }
 }
 
-// One parameter row: name, value, 95 % interval, unit. An interval reaching past the
-// parameter's physical range (identify/model_structure.h PhysicalRange) is shown cut at it and
-// marked "*"; `clipped` then gets a line saying so with the symmetric interval's end.
-std::vector<std::string> EstimateRow(const ParameterEstimate& p,
-                                     std::vector<std::string>* clipped = nullptr) {
-  const ParameterRange range = PhysicalRange(p.name);
-  const double lo = std::max(p.ci_low, range.lo), hi = std::min(p.ci_high, range.hi);
-  const bool cut =
-      std::isfinite(p.ci_low) && std::isfinite(p.ci_high) && (lo != p.ci_low || hi != p.ci_high);
-  const EstimateText text = FormatEstimate(p.value, cut ? lo : p.ci_low, cut ? hi : p.ci_high);
-  if (cut && clipped) {
-    const EstimateText raw = FormatEstimate(p.value, p.ci_low, p.ci_high);
-    const bool at_lo = lo != p.ci_low;
-    clipped->push_back(p.name + ": the symmetric 95 % interval reaches " +
-                       (at_lo ? raw.low : raw.high) + ", past the physical bound " +
-                       FormatNumber(at_lo ? range.lo : range.hi) + ": the data do not rule out " +
-                       FormatNumber(at_lo ? range.lo : range.hi));
-  }
-  return {p.name, text.value, text.interval + (cut ? " *" : ""), p.unit};
+// One parameter row: name, value, 95 % interval (cut at the physical range), unit; the cut's
+// note, named, goes to `notes`.
+std::vector<std::string> EstimateRow(const ParameterEstimate& p, std::vector<std::string>& notes) {
+  const ParameterText text = FormatParameter(p.name, p.value, p.ci_low, p.ci_high);
+  if (!text.note.empty()) notes.push_back(p.name + ": " + text.note);
+  return {p.name, text.value, text.interval, p.unit};
 }
 
 class FitCommand : public Command {
  public:
   void Configure(CLI::App& sub) override {
+    sub.footer(
+        "Each parameter is shown with its 95 % interval, value +- t sd from the covariance\n"
+        "scaled by the residual variance. An interval that reaches past the parameter's physical\n"
+        "range (a negative dead time or time constant, a damping ratio above 1) is shown cut at\n"
+        "the bound and marked *, with a line under the table giving the symmetric end; fit\n"
+        "--compare and drift show it the same way, and --json and the model file keep the\n"
+        "symmetric interval. A recording without an input column is fitted to a known step\n"
+        "with --step-at T --step-size A. Exit status: 0 fitted, 1 the fit failed, 2 a usage\n"
+        "error, 3 a recording that cannot be used; no model file is written unless 0.");
     sub.add_option("REC.csv", path_, "Step-test recording (CSV)")->required();
     columns_.Add(sub, ColumnSet{true, true, true});
     sub.add_option("--structure", structure_,
@@ -471,12 +467,12 @@ class FitCommand : public Command {
             << " per " << (options.input_unit.empty() ? "input" : options.input_unit)
             << ", times in s\n";
     TextTable table({"parameter", "value", "95 % interval", "unit"});
-    std::vector<std::string> clipped;
-    for (const auto& p : m.parameters) table.AddRow(EstimateRow(p, &clipped));
-    table.AddRow(EstimateRow(m.output_offset));
-    if (m.output_drift) table.AddRow(EstimateRow(*m.output_drift));
+    std::vector<std::string> notes;
+    for (const auto& p : m.parameters) table.AddRow(EstimateRow(p, notes));
+    table.AddRow(EstimateRow(m.output_offset, notes));
+    if (m.output_drift) table.AddRow(EstimateRow(*m.output_drift, notes));
     table.Print(ctx.out);
-    for (const std::string& c : clipped) ctx.out << "  * " << c << "\n";
+    for (const std::string& n : notes) ctx.out << "  * " << n << "\n";
     KeyValueList kv;
     kv.Add("fit", FormatNumber(m.fit_percent) + " %");
     kv.Add("residual rms", FormatNumber(m.residual_rms));

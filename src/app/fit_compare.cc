@@ -271,6 +271,7 @@ void PrintComparison(const Context& ctx, const ModelComparison& c) {
       << Bold(ctx, "compared with") << " " << c.old_path << " (" << c.old_structure << " -> "
       << c.new_structure << "; significant when |z| > 1.96)\n";
   SummaryTable t({"parameter", "old", "old 95 %", "new", "new 95 %", "change", "z", "verdict"});
+  std::vector<std::string> notes;
   for (const ParameterChange& p : c.changes) {
     std::string change = FormatNumber(p.change, 3);
     if (std::isfinite(p.change_percent)) change += " (" + FormatNumber(p.change_percent, 2) + " %)";
@@ -278,12 +279,17 @@ void PrintComparison(const Context& ctx, const ModelComparison& c) {
                               ? (*p.significant ? SummaryCell("changed", CellMark::kCaution)
                                                 : SummaryCell("within uncertainty", CellMark::kOk))
                               : SummaryCell("unknown (no interval)");
-    const EstimateText before = FormatEstimate(p.before.value, p.before.ci_low, p.before.ci_high);
-    const EstimateText after = FormatEstimate(p.after.value, p.after.ci_low, p.after.ci_high);
+    const ParameterText before =
+        FormatParameter(p.name, p.before.value, p.before.ci_low, p.before.ci_high);
+    const ParameterText after =
+        FormatParameter(p.name, p.after.value, p.after.ci_low, p.after.ci_high);
+    if (!before.note.empty()) notes.push_back("old " + p.name + ": " + before.note);
+    if (!after.note.empty()) notes.push_back("new " + p.name + ": " + after.note);
     t.AddRow({p.name + (p.unit.empty() || p.unit == "-" ? "" : " [" + p.unit + "]"), before.value,
               before.interval, after.value, after.interval, change, FormatNumber(p.z, 3), verdict});
   }
   t.Print(ctx);
+  for (const std::string& n : notes) out << "  * " << n << "\n";
   if (!c.only_old.empty() || !c.only_new.empty()) {
     std::string o, n;
     for (const auto& s : c.only_old) o += (o.empty() ? "" : ", ") + s;

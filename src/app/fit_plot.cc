@@ -14,10 +14,11 @@ namespace lw::app {
 namespace {
 
 std::string CaptionText(const ParameterEstimate& p) {
-  const EstimateText text = FormatEstimate(p.value, p.ci_low, p.ci_high);
+  const ParameterText text = FormatParameter(p.name, p.value, p.ci_low, p.ci_high);
   std::string s = p.name + " = " + text.value;
   if (std::isfinite(p.ci_low) && std::isfinite(p.ci_high))
-    s += " [" + text.low + ", " + text.high + "]";
+    s +=
+        " [" + text.low + ", " + text.high + "]" + (text.note.empty() ? "" : " (cut at the bound)");
   if (!p.unit.empty()) s += " " + p.unit;
   return s;
 }

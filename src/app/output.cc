@@ -6,6 +6,8 @@
 #include <cstdlib>
 #include <ostream>
 
+#include "identify/model_structure.h"
+
 namespace lw::app {
 namespace {
 
@@ -79,6 +81,23 @@ EstimateText FormatEstimate(double value, double low, double high, int significa
     if (!bounded || (low_ok && high_ok) || digits >= std::max(10, significant)) break;
   }
   if (bounded) text.interval = text.low + " .. " + text.high;
+  return text;
+}
+
+ParameterText FormatParameter(std::string_view name, double value, double low, double high) {
+  const ParameterRange range = PhysicalRange(name);
+  const double lo = std::max(low, range.lo), hi = std::min(high, range.hi);
+  const bool cut = std::isfinite(low) && std::isfinite(high) && (lo != low || hi != high);
+  ParameterText text;
+  static_cast<EstimateText&>(text) = FormatEstimate(value, cut ? lo : low, cut ? hi : high);
+  if (cut) {
+    text.interval += " *";
+    const bool at_lo = lo != low;
+    const EstimateText raw = FormatEstimate(value, low, high);
+    const std::string bound = FormatNumber(at_lo ? range.lo : range.hi);
+    text.note = "the symmetric 95 % interval reaches " + (at_lo ? raw.low : raw.high) +
+                ", past the physical bound " + bound + ": the data do not rule out " + bound;
+  }
   return text;
 }
 

@@ -35,6 +35,17 @@ struct EstimateText {
 };
 EstimateText FormatEstimate(double value, double low, double high, int significant = 4);
 
+// The same for a named fit parameter, its interval cut at the parameter's physical range
+// (identify/model_structure.h PhysicalRange: a dead time or a time constant is never negative,
+// a damping ratio lies in [0, 1]). A cut interval reads "0 .. 0.06462 *", and `note` says why:
+// "the symmetric 95 % interval reaches -0.05167, past the physical bound 0: the data do not rule
+// out 0" (the caller names the parameter before it). Uncut, it is FormatEstimate's text and
+// `note` is empty. Tables of estimates (fit, fit --compare, drift) print the note under them.
+struct ParameterText : EstimateText {
+  std::string note;  // empty unless the interval was cut
+};
+ParameterText FormatParameter(std::string_view name, double value, double low, double high);
+
 // FormatNumber followed by a space and the unit when the unit is not empty: "3.2 s"; NaN is
 // "n/a" alone.
 std::string FormatQuantity(double v, std::string_view unit, int significant = 4);

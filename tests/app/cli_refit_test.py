@@ -409,6 +409,37 @@ def case_physical_bounds():
               <= 0.01 * abs(ci["dead_time"][0]) + 1e-9,
               f"the note gives the symmetric interval's end as in --json ({note[0]!r}, "
               f"{ci['dead_time'][0]})")
+    # fit --compare and drift show the same cut interval, with the same note under their tables.
+    code, _, err = run("fit", path("tiny_dead.csv"), "--structure", "fopdt", "-o",
+                       path("tiny_dead.json"))
+    check(code == 0, f"fit -o exits 0 ({err.strip()})")
+    code, out, err = run("fit", path("tiny_dead.csv"), "--structure", "fopdt", "--compare",
+                         path("tiny_dead.json"))
+    check(code == 0, f"fit --compare exits 0 ({err.strip()})")
+    compared = [l for l in out.splitlines() if l.strip().startswith("dead_time [s]")]
+    check(len(compared) == 1 and len(re.findall(r"\b0 \.\. [0-9.]+ \*", compared[0])) == 2,
+          f"compare cuts the old and new dead-time intervals at 0 ({compared})")
+    check(any(l.strip().startswith("* old dead_time: the symmetric 95 % interval reaches -")
+              for l in out.splitlines()) and
+          any(l.strip().startswith("* new dead_time: the symmetric 95 % interval reaches -")
+              for l in out.splitlines()), f"compare says why, for both ({out!r})")
+    code, _, err = run("init", "bounds_rig")
+    check(code == 0, f"init exits 0 ({err.strip()})")
+    for _ in range(2):
+        code, _, err = run("--rig", path("bounds_rig"), "fit", path("tiny_dead.csv"),
+                           "--structure", "fopdt")
+        check(code == 0, f"fit into the workspace exits 0 ({err.strip()})")
+    code, out, err = run("drift", "--rig", path("bounds_rig"))
+    check(code == 0, f"drift exits 0 ({err.strip()})")
+    lines = out.splitlines()
+    at = next((i for i, l in enumerate(lines) if l.startswith("dead_time")), None)
+    block = lines[at:] if at is not None else []
+    rows = [l for l in block[1:7] if re.match(r"\s+[12]\s", l)]
+    check(len(rows) == 2 and all(re.search(r"\b0 \.\. [0-9.]+ \*", r) for r in rows),
+          f"drift cuts both fits' dead-time intervals at 0 ({rows})")
+    check(any(l.strip().startswith("* fit 1: the symmetric 95 % interval reaches -") for l in block)
+          and any(l.strip().startswith("* fit 2: the symmetric 95 % interval reaches -")
+                  for l in block), f"drift says why, for each fit ({block[:12]!r})")
 
 
 def case_errors():

@@ -57,6 +57,31 @@ TEST_CASE("FormatEstimate adds digits until an interval has width") {
   CHECK(f.value == "1");
 }
 
+TEST_CASE("FormatParameter cuts an interval at the parameter's physical range") {
+  // A dead time cannot be negative: the symmetric interval 0.0065 +- 0.058 is shown from 0.
+  ParameterText a = FormatParameter("dead_time", 0.006474, -0.05167, 0.06462);
+  CHECK(a.interval == "0 .. 0.06462 *");
+  CHECK(a.low == "0");
+  CHECK(a.note ==
+        "the symmetric 95 % interval reaches -0.05167, past the physical bound 0: the data do "
+        "not rule out 0");
+  // A damping ratio lies in [0, 1]: cut above.
+  ParameterText b = FormatParameter("damping_ratio", 0.95, 0.88, 1.02);
+  CHECK(b.interval == "0.88 .. 1 *");
+  CHECK(b.note.find("reaches 1.02, past the physical bound 1") != std::string::npos);
+  // Inside the range, or a parameter without one (a gain may be negative): FormatEstimate's text.
+  ParameterText c = FormatParameter("time_constant", 2.929, 2.857, 3.001);
+  CHECK(c.interval == "2.857 .. 3.001");
+  CHECK(c.note.empty());
+  ParameterText d = FormatParameter("gain", -0.5, -1.2, 0.2);
+  CHECK(d.interval == "-1.2 .. 0.2");
+  CHECK(d.note.empty());
+  // No interval, nothing to cut.
+  ParameterText e = FormatParameter("dead_time", 0.1, std::nan(""), std::nan(""));
+  CHECK(e.interval == "undetermined");
+  CHECK(e.note.empty());
+}
+
 TEST_CASE("JsonNumber turns non-finite values into null") {
   CHECK(JsonNumber(1.5).get<double>() == 1.5);
   CHECK(JsonNumber(std::nan("")).is_null());
