@@ -137,8 +137,10 @@ int main(int argc, char** argv) {
   long rss_before = 0, peak = 0, heap_peak = 0;
   for (int r = 0; r < repeats; ++r) {
     id = lw::Identification{};
-    ResetPeak();
-    rss_before = PeakRss();
+    if (r == 0) {
+      ResetPeak();
+      rss_before = PeakRss();
+    }
     const long heap_before = live_bytes.load();
     peak_bytes.store(heap_before);
     auto t0 = std::chrono::steady_clock::now();
