@@ -146,7 +146,7 @@ def main():
     print(f"medians of CPU time over >= {repeats} runs (wall time beside it for loopwright)")
     print(f"{'samples':>8} {'ours wall':>10} {'ours cpu':>9} {'scipy row':>12} {'scipy cpu':>10} "
           f"{'cpu ratio':>9} {'max param err ours':>19} {'scipy':>7} {'RSS ours/scipy':>15} "
-          f"{'heap B/sample':>14} {'RSS B/sample':>13}")
+          f"{'heap B/sample':>14} {'resident B/sample':>17}")
     for n, ours, closed, simulated in rows:
         err_o = np.max(np.abs(np.array(ours["parameters"]) - TRUE) / TRUE)
         for label, (_, sc, (_, _, sp, srss)) in (("closed form", closed), ("simulated", simulated)):
@@ -155,7 +155,7 @@ def main():
                   f"{label:>12} {1000 * sc:7.1f} ms {sc / ours['median_cpu_s']:8.1f}x "
                   f"{100 * err_o:18.3f}% {100 * err_s:6.3f}% {ours['rss'] / srss:15.8f} "
                   f"{ours['peak_heap_bytes_per_sample']:14.1f} "
-                  f"{ours['peak_bytes_per_sample']:13.1f}")
+                  f"{ours['peak_bytes_per_sample']:17.1f}")
     return 0
 
 
