@@ -196,7 +196,7 @@ class FitCommand : public Command {
         "Each parameter is shown with its 95 % interval, value +- t sd from the covariance\n"
         "scaled by the residual variance. An interval that reaches past the parameter's physical\n"
         "range (a negative dead time or time constant, a damping ratio above 1) is shown cut at\n"
-        "the bound and marked *, with a line under the table giving the symmetric end; fit\n"
+        "the bound and marked †, with a line under the table giving the symmetric end; fit\n"
         "--compare and drift show it the same way, and --json and the model file keep the\n"
         "symmetric interval. A recording without an input column is fitted to a known step\n"
         "with --step-at T --step-size A. Exit status: 0 fitted, 1 the fit failed, 2 a usage\n"
@@ -472,7 +472,7 @@ class FitCommand : public Command {
     table.AddRow(EstimateRow(m.output_offset, notes));
     if (m.output_drift) table.AddRow(EstimateRow(*m.output_drift, notes));
     table.Print(ctx.out);
-    for (const std::string& n : notes) ctx.out << "  * " << n << "\n";
+    for (const std::string& n : notes) ctx.out << "  " << kCutMark << " " << n << "\n";
     KeyValueList kv;
     kv.Add("fit", FormatNumber(m.fit_percent) + " %");
     kv.Add("residual rms", FormatNumber(m.residual_rms));

@@ -91,7 +91,7 @@ ParameterText FormatParameter(std::string_view name, double value, double low, d
   ParameterText text;
   static_cast<EstimateText&>(text) = FormatEstimate(value, cut ? lo : low, cut ? hi : high);
   if (cut) {
-    text.interval += " *";
+    text.interval += " " + std::string(kCutMark);
     const bool at_lo = lo != low;
     const EstimateText raw = FormatEstimate(value, low, high);
     const std::string bound = FormatNumber(at_lo ? range.lo : range.hi);

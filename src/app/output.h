@@ -37,10 +37,13 @@ EstimateText FormatEstimate(double value, double low, double high, int significa
 
 // The same for a named fit parameter, its interval cut at the parameter's physical range
 // (identify/model_structure.h PhysicalRange: a dead time or a time constant is never negative,
-// a damping ratio lies in [0, 1]). A cut interval reads "0 .. 0.06462 *", and `note` says why:
+// a damping ratio lies in [0, 1]). A cut interval reads "0 .. 0.06462 †" (kCutMark: "*" already
+// marks the chosen structure in fit's candidates), and `note` says why:
 // "the symmetric 95 % interval reaches -0.05167, past the physical bound 0: the data do not rule
 // out 0" (the caller names the parameter before it). Uncut, it is FormatEstimate's text and
-// `note` is empty. Tables of estimates (fit, fit --compare, drift) print the note under them.
+// `note` is empty. Tables of estimates (fit, fit --compare, drift) print the note under them,
+// after the mark.
+inline constexpr std::string_view kCutMark = "†";
 struct ParameterText : EstimateText {
   std::string note;  // empty unless the interval was cut
 };

@@ -377,7 +377,7 @@ def case_physical_bounds():
     # A first-order plant whose dead time (0.01 s) is a tenth of the sample period, with noise:
     # y = 5 + 2 * 1 (1 - exp(-(t - 1 - 0.01)/3)) for t >= 1.01, sampled every 0.1 s. The symmetric
     # 95 % interval value +- t sd of the dead time then reaches below 0, where no dead time can
-    # be; the table shows it cut at 0 and marked, says so under the table, and --json keeps the
+    # be; the table shows it cut at 0 and marked †, says so under the table, and --json keeps the
     # symmetric (Wald) interval.
     rng = random.Random(11)
     with open(path("tiny_dead.csv"), "w") as f:
@@ -397,11 +397,11 @@ def case_physical_bounds():
     check(code == 0, f"fit exits 0 ({err.strip()})")
     rows = {l.split()[0]: l for l in out.splitlines() if l.strip()}
     dead = rows.get("dead_time", "")
-    check(re.search(r"\b0 \.\. [0-9.]+ \*", dead) is not None,
-          f"the dead-time row shows the interval from 0, marked * (got {dead!r})")
-    check("*" not in rows.get("gain", "") and "*" not in rows.get("time_constant", ""),
+    check(re.search(r"\b0 \.\. [0-9.]+ †", dead) is not None,
+          f"the dead-time row shows the interval from 0, marked † (got {dead!r})")
+    check("†" not in rows.get("gain", "") and "†" not in rows.get("time_constant", ""),
           "rows inside their physical range are not marked")
-    note = [l for l in out.splitlines() if l.strip().startswith("* dead_time:")]
+    note = [l for l in out.splitlines() if l.strip().startswith("† dead_time:")]
     check(len(note) == 1, f"one note under the table for the cut interval ({out!r})")
     if note:
         m = re.search(r"reaches (-[0-9.e-]+), past the physical bound 0", note[0])
@@ -417,11 +417,11 @@ def case_physical_bounds():
                          path("tiny_dead.json"))
     check(code == 0, f"fit --compare exits 0 ({err.strip()})")
     compared = [l for l in out.splitlines() if l.strip().startswith("dead_time [s]")]
-    check(len(compared) == 1 and len(re.findall(r"\b0 \.\. [0-9.]+ \*", compared[0])) == 2,
+    check(len(compared) == 1 and len(re.findall(r"\b0 \.\. [0-9.]+ †", compared[0])) == 2,
           f"compare cuts the old and new dead-time intervals at 0 ({compared})")
-    check(any(l.strip().startswith("* old dead_time: the symmetric 95 % interval reaches -")
+    check(any(l.strip().startswith("† old dead_time: the symmetric 95 % interval reaches -")
               for l in out.splitlines()) and
-          any(l.strip().startswith("* new dead_time: the symmetric 95 % interval reaches -")
+          any(l.strip().startswith("† new dead_time: the symmetric 95 % interval reaches -")
               for l in out.splitlines()), f"compare says why, for both ({out!r})")
     code, _, err = run("init", "bounds_rig")
     check(code == 0, f"init exits 0 ({err.strip()})")
@@ -435,10 +435,10 @@ def case_physical_bounds():
     at = next((i for i, l in enumerate(lines) if l.startswith("dead_time")), None)
     block = lines[at:] if at is not None else []
     rows = [l for l in block[1:7] if re.match(r"\s+[12]\s", l)]
-    check(len(rows) == 2 and all(re.search(r"\b0 \.\. [0-9.]+ \*", r) for r in rows),
+    check(len(rows) == 2 and all(re.search(r"\b0 \.\. [0-9.]+ †", r) for r in rows),
           f"drift cuts both fits' dead-time intervals at 0 ({rows})")
-    check(any(l.strip().startswith("* fit 1: the symmetric 95 % interval reaches -") for l in block)
-          and any(l.strip().startswith("* fit 2: the symmetric 95 % interval reaches -")
+    check(any(l.strip().startswith("† fit 1: the symmetric 95 % interval reaches -") for l in block)
+          and any(l.strip().startswith("† fit 2: the symmetric 95 % interval reaches -")
                   for l in block), f"drift says why, for each fit ({block[:12]!r})")
 
 

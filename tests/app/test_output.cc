@@ -60,14 +60,14 @@ TEST_CASE("FormatEstimate adds digits until an interval has width") {
 TEST_CASE("FormatParameter cuts an interval at the parameter's physical range") {
   // A dead time cannot be negative: the symmetric interval 0.0065 +- 0.058 is shown from 0.
   ParameterText a = FormatParameter("dead_time", 0.006474, -0.05167, 0.06462);
-  CHECK(a.interval == "0 .. 0.06462 *");
+  CHECK(a.interval == "0 .. 0.06462 †");
   CHECK(a.low == "0");
   CHECK(a.note ==
         "the symmetric 95 % interval reaches -0.05167, past the physical bound 0: the data do "
         "not rule out 0");
   // A damping ratio lies in [0, 1]: cut above.
   ParameterText b = FormatParameter("damping_ratio", 0.95, 0.88, 1.02);
-  CHECK(b.interval == "0.88 .. 1 *");
+  CHECK(b.interval == "0.88 .. 1 †");
   CHECK(b.note.find("reaches 1.02, past the physical bound 1") != std::string::npos);
   // Inside the range, or a parameter without one (a gain may be negative): FormatEstimate's text.
   ParameterText c = FormatParameter("time_constant", 2.929, 2.857, 3.001);
