@@ -4,6 +4,7 @@
 #include <cmath>
 #include <numbers>
 #include <numeric>
+#include <optional>
 #include <span>
 
 #include "identify/two_point.h"
@@ -11,17 +12,20 @@
 namespace lw {
 namespace {
 
-// Centred moving average over w samples (w odd), so crossings are not triggered by noise.
+// Centred moving average over w samples (w odd), so crossings are not triggered by noise; the
+// window shrinks to the samples that exist at both ends. One running sum, one output buffer.
 std::vector<double> Smooth(std::span<const double> y, size_t w) {
-  if (w <= 1) return {y.begin(), y.end()};
-  const long half = static_cast<long>(w / 2), n = static_cast<long>(y.size());
-  std::vector<double> out(y.size());
-  std::vector<double> c(y.size() + 1, 0.0);
-  for (size_t i = 0; i < y.size(); ++i) c[i + 1] = c[i] + y[i];
-  for (long i = 0; i < n; ++i) {
-    long lo = std::max(0L, i - half), hi = std::min(n - 1, i + half);
-    out[static_cast<size_t>(i)] = (c[static_cast<size_t>(hi + 1)] - c[static_cast<size_t>(lo)]) /
-                                  static_cast<double>(hi - lo + 1);
+  if (w <= 1 || y.empty()) return {y.begin(), y.end()};
+  const size_t n = y.size(), half = w / 2;
+  std::vector<double> out(n);
+  double sum = 0.0;
+  size_t hi = 0;  // the window is [lo, hi)
+  for (; hi < std::min(n, half); ++hi) sum += y[hi];
+  for (size_t i = 0; i < n; ++i) {
+    if (hi < n) sum += y[hi++];            // the window now reaches i + half
+    if (i > half) sum -= y[i - half - 1];  // and starts at i - half
+    const size_t lo = i > half ? i - half : 0;
+    out[i] = sum / static_cast<double>(hi - lo);
   }
   return out;
 }
@@ -32,16 +36,19 @@ struct FirstStep {
   std::vector<double> y;      // its smoothed output
 };
 
-FirstStep FirstSegment(const StepRecording& rec, const RecordingAnalysis& a) {
+// The first step's segment; its output smoothed only when `smooth` (the starts that read it).
+FirstStep FirstSegment(const StepRecording& rec, const RecordingAnalysis& a, bool smooth) {
   FirstStep f;
   const size_t i0 = a.steps.front();
   const size_t i1 = a.steps.size() > 1 ? a.steps[1] : rec.t.size();
   f.t_step = rec.t[i0];
   f.t_end = rec.t[i1 - 1];
   f.h = a.sample_period;
-  size_t w = std::max<size_t>(1, (i1 - i0) / 100) | 1;
-  f.y = Smooth(std::span<const double>(rec.y).first(i1), w);
   f.t = std::span<const double>(rec.t).first(i1);
+  if (smooth) {
+    const size_t w = std::max<size_t>(1, (i1 - i0) / 100) | 1;
+    f.y = Smooth(std::span<const double>(rec.y).first(i1), w);
+  }
   return f;
 }
 
@@ -57,13 +64,17 @@ std::vector<double> Full(Structure s, std::vector<double> params, double y0) {
 std::vector<std::vector<double>> StartingValues(Structure s, const StepRecording& rec,
                                                 const RecordingAnalysis& a,
                                                 const std::vector<double>& seed) {
-  FirstStep f = FirstSegment(rec, a);
+  // A sopdt start from its fopdt seed reads nothing of the record: the smoothing (a pass and
+  // a copy of the first segment) is skipped there.
+  const bool from_seed = s == Structure::kSopdt && !seed.empty();
+  FirstStep f = FirstSegment(rec, a, !from_seed);
   const double h = f.h;
   const double span = std::max(f.t_end - f.t_step, 10.0 * h);
   const double du = a.input_change != 0.0 ? a.input_change : 1.0;
   const double k0 = a.output_change / du;
   const double y0 = a.output_baseline;
-  auto tp = SmithTwoPoint(f.t, f.y, f.t_step, a.output_baseline, a.output_final);
+  auto tp = from_seed ? std::nullopt
+                      : SmithTwoPoint(f.t, f.y, f.t_step, a.output_baseline, a.output_final);
   double tau0 = tp ? std::max(tp->time_constant, h) : span / 3.0;
   double t0 = tp ? tp->dead_time : 0.0;
   double t63 = tp ? tp->t63 : tau0;
