@@ -23,6 +23,10 @@
 #include <vector>
 
 namespace lw {
+namespace detail {
+// The k-th smallest of p[0..n), by RankValue (one instantiation for every buffer).
+inline double RankOfBuffer(const double* p, size_t n, size_t k);
+}  // namespace detail
 
 // The k-th smallest of value(i), i < n (k < n; 0 for n == 0).
 template <typename Value>
@@ -66,6 +70,8 @@ double RankValue(size_t n, size_t k, Value&& value) {
   if (r < at_lo) return lo;
   r -= at_lo;
   if (r < kept) {
+    // A long bracket (a long series keeps about a tenth of itself) is selected the same way.
+    if (kept > 8 * kSample) return detail::RankOfBuffer(inside.get(), kept, r);
     std::nth_element(inside.get(), inside.get() + r, inside.get() + kept);
     return inside[r];
   }
@@ -73,6 +79,12 @@ double RankValue(size_t n, size_t k, Value&& value) {
   if (r < at_hi) return hi;
   return direct();
 }
+
+namespace detail {
+inline double RankOfBuffer(const double* p, size_t n, size_t k) {
+  return RankValue(n, k, [p](size_t i) { return p[i]; });
+}
+}  // namespace detail
 
 // Rank n / 2 of value(i), i < n.
 template <typename Value>

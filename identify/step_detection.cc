@@ -41,15 +41,24 @@ void CheckFinite(std::span<const double> x, const char* what) {
   }
 }
 
-// Longest run of samples exactly at the extreme `level`.
-void LongestRunAt(std::span<const double> y, std::span<const double> t, double level, size_t& best,
-                  double& from) {
-  size_t run = 0;
+// Longest runs of samples exactly at the extremes `hi` and `lo`, in one pass.
+struct Run {
+  size_t best = 0;
+  double from = 0.0;
+};
+void LongestRunsAt(std::span<const double> y, std::span<const double> t, double hi, double lo,
+                   Run& at_hi, Run& at_lo) {
+  size_t run_hi = 0, run_lo = 0;
   for (size_t i = 0; i < y.size(); ++i) {
-    run = (y[i] == level) ? run + 1 : 0;
-    if (run > best) {
-      best = run;
-      from = t[i + 1 - run];
+    run_hi = (y[i] == hi) ? run_hi + 1 : 0;
+    run_lo = (y[i] == lo) ? run_lo + 1 : 0;
+    if (run_hi > at_hi.best) {
+      at_hi.best = run_hi;
+      at_hi.from = t[i + 1 - run_hi];
+    }
+    if (run_lo > at_lo.best) {
+      at_lo.best = run_lo;
+      at_lo.from = t[i + 1 - run_lo];
     }
   }
 }
@@ -60,10 +69,20 @@ double DifferenceNoiseSd(std::span<const double> x) {
   if (x.size() < 3) return 0.0;
   // The differences are formed on the fly (no copy of the series). A held input repeats its
   // value: when more than half the differences are exactly zero both medians are zero.
+  // That shortcut only saves the work (the medians below are then zero too), so on a long
+  // series an evenly spaced sample decides whether the full count is worth a pass.
   const size_t n = x.size() - 1;
-  size_t repeats = 0;
-  for (size_t i = 0; i < n; ++i) repeats += x[i + 1] == x[i];
-  if (repeats > n / 2) return 0.0;
+  constexpr size_t kProbe = 256;
+  size_t probe_repeats = 0;
+  for (size_t j = 0; j < kProbe && n > 4 * kProbe; ++j) {
+    const size_t i = (2 * j + 1) * n / (2 * kProbe);
+    probe_repeats += x[i + 1] == x[i];
+  }
+  if (n <= 4 * kProbe || probe_repeats > kProbe / 4) {
+    size_t repeats = 0;
+    for (size_t i = 0; i < n; ++i) repeats += x[i + 1] == x[i];
+    if (repeats > n / 2) return 0.0;
+  }
   const double med = MedianOf(n, [&](size_t i) { return x[i + 1] - x[i]; });
   return 1.4826 * MedianOf(n, [&](size_t i) { return std::abs((x[i + 1] - x[i]) - med); }) /
          std::sqrt(2.0);
@@ -79,9 +98,17 @@ RecordingAnalysis AnalyseRecording(std::span<const double> t, std::span<const do
     throw DataError("only " + std::to_string(n) +
                     " samples: a fit needs at least 10 (a baseline, the response, its end)");
   }
-  CheckFinite(t, "time");
-  CheckFinite(u, "input");
-  CheckFinite(y, "output");
+  // One pass over the three columns; only when it finds a bad value do the column checks run,
+  // in order, to name the first one.
+  bool finite = true;
+  for (size_t i = 0; i < n; ++i) {
+    finite &= std::isfinite(t[i]) & std::isfinite(u[i]) & std::isfinite(y[i]);
+  }
+  if (!finite) {
+    CheckFinite(t, "time");
+    CheckFinite(u, "input");
+    CheckFinite(y, "output");
+  }
   RecordingAnalysis a;
   a.min_interval = std::numeric_limits<double>::infinity();
   a.max_interval = 0.0;
@@ -153,10 +180,10 @@ RecordingAnalysis AnalyseRecording(std::span<const double> t, std::span<const do
   const double base_noise = first >= 3 ? DifferenceNoiseSd(y.first(first)) : a.output_noise_sd;
   std::span<const double> ya = y.subspan(first), ta = t.subspan(first);
   const auto [ymin, ymax] = std::minmax_element(ya.begin(), ya.end());
-  size_t run_hi = 0, run_lo = 0;
-  double from_hi = 0.0, from_lo = 0.0;
-  LongestRunAt(ya, ta, *ymax, run_hi, from_hi);
-  LongestRunAt(ya, ta, *ymin, run_lo, from_lo);
+  Run at_hi, at_lo;
+  LongestRunsAt(ya, ta, *ymax, *ymin, at_hi, at_lo);
+  size_t run_hi = at_hi.best, run_lo = at_lo.best;
+  const double from_hi = at_hi.from, from_lo = at_lo.from;
   // With fewer than 3 baseline samples the noise comes from the whole record, and an exact
   // (noise-free) record's dead time is a flat run that continues the baseline from the step
   // on: that is the dead time, not a saturated sensor.
