@@ -6,10 +6,10 @@
 // sampling, 1975; from memory): an evenly spaced sample of the series is sorted, two of its
 // values bracket rank k with a margin of 3.5 standard deviations of a sample rank, and one pass
 // counts the values below and at the bracket and keeps only those strictly inside it, whose own
-// nth_element gives the answer. When the bracket misses (a series arranged against the evenly
-// spaced sample) the whole series is selected directly, so the result is exact either way; the
-// cost is one pass and a small selection instead of a copy of the series and a full selection.
-// Values must not be NaN.
+// nth_element gives the answer (or, when they are still many, the same selection again). When the
+// bracket misses (a series arranged against the evenly spaced sample) the whole series is selected
+// directly, so the result is exact either way; the cost is one pass and a small selection instead
+// of a copy of the series and a full selection. Values must not be NaN.
 #ifndef LOOPWRIGHT_IDENTIFY_ORDER_STATISTIC_H_
 #define LOOPWRIGHT_IDENTIFY_ORDER_STATISTIC_H_
 
