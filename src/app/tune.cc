@@ -177,8 +177,12 @@ class TuneCommand : public Command {
     std::string why = limits.CheckGain(gain);
     if (!why.empty()) throw JobFailed("the proposed " + why + "; nothing was applied");
 
-    double a = step.level_before;
-    double b = a + 0.5 * (step.level_after - step.level_before);
+    // The default reference step, from the measured levels, is rounded to the 6 significant
+    // digits the proposal shows, so the step applied is the one shown, predicted and checked
+    // (104.04, not 104.04000000000002); a --reference step is taken as given.
+    auto shown = [](double v) { return std::isfinite(v) ? std::stod(FormatNumber(v, 6)) : v; };
+    double a = shown(step.level_before);
+    double b = shown(step.level_before + 0.5 * (step.level_after - step.level_before));
     if (ref_step) std::tie(a, b) = *ref_step;
     plan = MakePlan(file, controller, rig.specs, ShortestText(gain), ShortestText(a),
                     ShortestText(b), actuator, caps);

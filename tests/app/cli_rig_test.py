@@ -572,6 +572,14 @@ def case_tune():
     emu.stop()
     check(code == 0, f"tune exits 0 (got {code}: {err.strip()[-600:]})")
     check(f"--structure fopdt" in out, "tune runs fit with the structure asked for")
+    # The default reference step (from the measured levels) is the one the proposal shows, to 6
+    # significant digits, in the predict command as on the rig: not 0.0240000000000002.
+    m = re.search(r"--reference step:(\S+):(\S+):0", out)
+    shown = re.search(r"step the reference (\S+) -> (\S+)", out)
+    check(m is not None and shown is not None and m.groups() == shown.groups() and
+          all(len(re.sub(r"[^0-9]", "", v.split("e")[0]).lstrip("0")) <= 6 for v in m.groups()),
+          f"predict steps the reference the proposal shows ({m and m.groups()}, "
+          f"{shown and shown.groups()})")
     import json
     try:
         with open(os.path.join(out_dir, "model.json")) as f:
