@@ -29,11 +29,27 @@ void AddBlock(ceres::Problem& problem, ceres::CostFunction* cost, double* x, int
   if (!held.empty()) problem.SetManifold(x, new ceres::SubsetManifold(p, held));
 }
 
+// Ends the solve at the current iterate when the caller's test says it has converged.
+class ConvergenceCallback : public ceres::IterationCallback {
+ public:
+  ConvergenceCallback(const ConvergedAt& test, const std::vector<double>& x) : test_(test), x_(x) {}
+  ceres::CallbackReturnType operator()(const ceres::IterationSummary& summary) override {
+    if (!summary.step_is_successful || !test_(x_, why_)) return ceres::SOLVER_CONTINUE;
+    return ceres::SOLVER_TERMINATE_SUCCESSFULLY;
+  }
+  const std::string& why() const { return why_; }
+
+ private:
+  const ConvergedAt& test_;
+  const std::vector<double>& x_;  // Ceres keeps it at the current iterate
+  std::string why_;
+};
+
 }  // namespace
 
 CeresRun RunCeres(ceres::CostFunction* cost, std::vector<double>& x, const std::vector<bool>& fixed,
                   const std::vector<double>& lower, const std::vector<double>& upper,
-                  const SolveOptions& options, size_t residuals) {
+                  const SolveOptions& options, size_t residuals, const ConvergedAt& converged_at) {
   const int p = static_cast<int>(x.size());
   ceres::Problem::Options po;
   po.cost_function_ownership = ceres::TAKE_OWNERSHIP;
@@ -61,15 +77,22 @@ CeresRun RunCeres(ceres::CostFunction* cost, std::vector<double>& x, const std::
   so.max_num_line_search_step_size_iterations = 0;
   so.num_threads = 1;
   so.logging_type = ceres::SILENT;
+  ConvergenceCallback callback(converged_at, x);
+  if (converged_at) {
+    so.update_state_every_iteration = true;
+    so.callbacks.push_back(&callback);
+  }
   ceres::Solver::Summary summary;
   ceres::Solve(so, &problem, &summary);
   CeresRun run;
   run.rss = 2.0 * summary.final_cost;
   run.iterations = static_cast<int>(summary.iterations.size());
-  run.converged = summary.termination_type == ceres::CONVERGENCE;
+  const bool ours = summary.termination_type == ceres::USER_SUCCESS && !callback.why().empty();
+  run.converged = summary.termination_type == ceres::CONVERGENCE || ours;
   run.usable = summary.IsSolutionUsable();
   run.termination =
-      ceres::TerminationTypeToString(summary.termination_type) + (": " + summary.message);
+      ours ? "CONVERGENCE: " + callback.why()
+           : ceres::TerminationTypeToString(summary.termination_type) + (": " + summary.message);
   return run;
 }
 

@@ -5,6 +5,7 @@
 #define LOOPWRIGHT_IDENTIFY_CERES_SOLVE_H_
 
 #include <cstddef>
+#include <functional>
 #include <string>
 #include <vector>
 
@@ -41,9 +42,18 @@ struct CeresRun {
 
 // Minimises the residual block `cost` (ownership taken) over x (size p, updated in place).
 // fixed[i] holds x[i]; lower/upper bound the others (infinite entries mean no bound).
+//
+// `converged_at`, when given, is asked after every successful iteration (the start included)
+// whether the current iterate x already meets the function tolerance: the caller knows when the
+// Gauss-Newton model it just evaluated there predicts a decrease of at most function_tolerance
+// times the cost for the next step (its Newton decrement), and Ceres would then evaluate that
+// step only to find the same. The solve then ends at x as converged, one cost evaluation sooner;
+// the termination text says so, with the predicted decrease the answer returned.
+using ConvergedAt = std::function<bool(const std::vector<double>& x, std::string& why)>;
 CeresRun RunCeres(ceres::CostFunction* cost, std::vector<double>& x, const std::vector<bool>& fixed,
                   const std::vector<double>& lower, const std::vector<double>& upper,
-                  const SolveOptions& options, size_t residuals);
+                  const SolveOptions& options, size_t residuals,
+                  const ConvergedAt& converged_at = {});
 
 // (J'J)^-1 at x from ceres::Covariance (dense SVD; rows and columns of held parameters are
 // zero). Returns false when Ceres finds it rank-deficient. Takes ownership of cost.

@@ -219,6 +219,9 @@ struct Linearisation {
   std::vector<double> x;  // full layout
   GramSink::Matrix gram;  // over the free columns and the residual
   std::vector<double> residuals, jacobian;
+  // The decrease of the cost the Gauss-Newton step from x predicts, as a fraction of the cost:
+  // c'c / r'r (the Newton decrement over the cost; +inf when the cost is 0).
+  double predicted_decrease = std::numeric_limits<double>::infinity();
 };
 
 // The last two Jacobian evaluations of a compressed cost, kept outside it (Ceres owns and
@@ -358,6 +361,8 @@ class CompressedOutputErrorCost : public ceres::CostFunction {
     keep.valid = true;
     keep.x = std::move(x);
     keep.gram = g;
+    keep.predicted_decrease =
+        g(p, p) > 0.0 ? explained / g(p, p) : std::numeric_limits<double>::infinity();
     keep.residuals.assign(residuals, residuals + m + 1);
     keep.jacobian.assign(jacobians[0], jacobians[0] + (m + 1) * m);
     return true;
@@ -471,8 +476,29 @@ SolveReport SolveOutputError(const OutputErrorProblem& problem, std::vector<doub
                                   ? static_cast<ceres::CostFunction*>(new CompressedOutputErrorCost(
                                         problem, report.x, free, &recent))
                                   : new OutputErrorCost(problem, report.x, free);
+  // A compressed solve knows the Gauss-Newton decrease its last Jacobian evaluation predicts:
+  // at most function_tolerance of the cost ends it there, where Ceres would stop one cost
+  // evaluation (a pass over every sample) later on finding that decrease (ceres_solve.h).
+  ConvergedAt at_optimum;
+  if (compress) {
+    at_optimum = [&](const std::vector<double>& now, std::string& why) {
+      std::vector<double> x = report.x;  // the held parameters' values
+      for (size_t c = 0; c < free.size(); ++c) x[free[c]] = now[c];
+      const Linearisation* known = recent.Find(x);
+      if (known == nullptr || !(known->predicted_decrease <= options.function_tolerance)) {
+        return false;
+      }
+      std::ostringstream o;
+      o.precision(3);
+      o << "the Gauss-Newton step from the solution would decrease the cost by "
+        << known->predicted_decrease << " of it (function tolerance " << options.function_tolerance
+        << ")";
+      why = o.str();
+      return true;
+    };
+  }
   CeresRun run = RunCeres(cost, xf, std::vector<bool>(free.size(), false), lf, uf, options,
-                          compress ? free.size() + 1 : report.residuals);
+                          compress ? free.size() + 1 : report.residuals, at_optimum);
   for (size_t c = 0; c < free.size(); ++c) report.x[free[c]] = xf[c];
   report.rss = run.rss;
   report.iterations = run.iterations;

@@ -15,6 +15,10 @@
 // augmented normal matrix [J r]'[J r] and gives Ceres m + 1 residuals with the same cost,
 // gradient and J'J (m free parameters), so Ceres takes the same Levenberg-Marquardt steps
 // without an N x m array; the J'J of the last accepted point is reused for the covariance.
+// Each Jacobian pass also gives the decrease the Gauss-Newton step from its point predicts
+// (c'c of the compressed residuals over r'r): once that is within the function tolerance the
+// solve ends there as converged (ceres_solve.h ConvergedAt), saving the pass over every sample
+// Ceres would spend evaluating that step only to find the same.
 // fit.h uses this as the polish of a fit first solved on a reduced record: from there two to
 // four such passes reach Ceres' tolerances on every sample.
 //
