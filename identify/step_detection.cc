@@ -41,25 +41,23 @@ void CheckFinite(std::span<const double> x, const char* what) {
   }
 }
 
-// Longest runs of samples exactly at the extremes `hi` and `lo`, in one pass.
-struct Run {
-  size_t best = 0;
+// The longest run of samples exactly at a level: its length and the time it starts.
+struct FlatRun {
+  size_t samples = 0;
   double from = 0.0;
 };
+
+// The longest runs at the extremes `hi` and `lo`, in one pass.
 void LongestRunsAt(std::span<const double> y, std::span<const double> t, double hi, double lo,
-                   Run& at_hi, Run& at_lo) {
+                   FlatRun& at_hi, FlatRun& at_lo) {
   size_t run_hi = 0, run_lo = 0;
+  auto extend = [&](size_t i, bool at, size_t& run, FlatRun& best) {
+    run = at ? run + 1 : 0;
+    if (run > best.samples) best = {run, t[i + 1 - run]};
+  };
   for (size_t i = 0; i < y.size(); ++i) {
-    run_hi = (y[i] == hi) ? run_hi + 1 : 0;
-    run_lo = (y[i] == lo) ? run_lo + 1 : 0;
-    if (run_hi > at_hi.best) {
-      at_hi.best = run_hi;
-      at_hi.from = t[i + 1 - run_hi];
-    }
-    if (run_lo > at_lo.best) {
-      at_lo.best = run_lo;
-      at_lo.from = t[i + 1 - run_lo];
-    }
+    extend(i, y[i] == hi, run_hi, at_hi);
+    extend(i, y[i] == lo, run_lo, at_lo);
   }
 }
 
@@ -73,12 +71,16 @@ double DifferenceNoiseSd(std::span<const double> x) {
   // series an evenly spaced sample decides whether the full count is worth a pass.
   const size_t n = x.size() - 1;
   constexpr size_t kProbe = 256;
-  size_t probe_repeats = 0;
-  for (size_t j = 0; j < kProbe && n > 4 * kProbe; ++j) {
-    const size_t i = (2 * j + 1) * n / (2 * kProbe);
-    probe_repeats += x[i + 1] == x[i];
+  bool worth_counting = n <= 4 * kProbe;
+  if (!worth_counting) {
+    size_t probe_repeats = 0;
+    for (size_t j = 0; j < kProbe; ++j) {
+      const size_t i = (2 * j + 1) * n / (2 * kProbe);
+      probe_repeats += x[i + 1] == x[i];
+    }
+    worth_counting = probe_repeats > kProbe / 4;
   }
-  if (n <= 4 * kProbe || probe_repeats > kProbe / 4) {
+  if (worth_counting) {
     size_t repeats = 0;
     for (size_t i = 0; i < n; ++i) repeats += x[i + 1] == x[i];
     if (repeats > n / 2) return 0.0;
@@ -180,24 +182,23 @@ RecordingAnalysis AnalyseRecording(std::span<const double> t, std::span<const do
   const double base_noise = first >= 3 ? DifferenceNoiseSd(y.first(first)) : a.output_noise_sd;
   std::span<const double> ya = y.subspan(first), ta = t.subspan(first);
   const auto [ymin, ymax] = std::minmax_element(ya.begin(), ya.end());
-  Run at_hi, at_lo;
+  FlatRun at_hi, at_lo;
   LongestRunsAt(ya, ta, *ymax, *ymin, at_hi, at_lo);
-  size_t run_hi = at_hi.best, run_lo = at_lo.best;
-  const double from_hi = at_hi.from, from_lo = at_lo.from;
   // With fewer than 3 baseline samples the noise comes from the whole record, and an exact
   // (noise-free) record's dead time is a flat run that continues the baseline from the step
   // on: that is the dead time, not a saturated sensor.
   auto continues_baseline = [&](double level, double from) {
     return first < 3 && from == t[first] && level == y[first - 1];
   };
-  if (continues_baseline(*ymax, from_hi)) run_hi = 0;
-  if (continues_baseline(*ymin, from_lo)) run_lo = 0;
+  if (continues_baseline(*ymax, at_hi.from)) at_hi.samples = 0;
+  if (continues_baseline(*ymin, at_lo.from)) at_lo.samples = 0;
   const bool noisy = base_noise > 1e-9 * std::max(1.0, std::abs(*ymax - *ymin));
-  if (noisy && std::max(run_hi, run_lo) >= 3) {
-    const bool hi = run_hi >= run_lo;
-    a.clipped_samples = hi ? run_hi : run_lo;
+  if (noisy && std::max(at_hi.samples, at_lo.samples) >= 3) {
+    const bool hi = at_hi.samples >= at_lo.samples;
+    const FlatRun& run = hi ? at_hi : at_lo;
+    a.clipped_samples = run.samples;
     a.clipped_level = hi ? *ymax : *ymin;
-    a.clipped_from = hi ? from_hi : from_lo;
+    a.clipped_from = run.from;
   }
   if (a.clipped_samples >= std::max<size_t>(5, n / 100)) {
     throw DataError("the output is clipped: it stays exactly at " + Num(a.clipped_level) + " for " +

@@ -203,7 +203,7 @@ class DriftCommand : public Command {
         table.AddRow(row);
       }
       table.Print(ctx.out);
-      for (const std::string& n : notes) ctx.out << "  " << kCutMark << " " << n << "\n";
+      PrintCutNotes(ctx.out, notes);
     }
     ctx.out << (flagged == 0 ? Good(ctx, "no significant change")
                              : Caution(ctx, std::to_string(flagged) + " significant change" +

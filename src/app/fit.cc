@@ -472,7 +472,7 @@ class FitCommand : public Command {
     table.AddRow(EstimateRow(m.output_offset, notes));
     if (m.output_drift) table.AddRow(EstimateRow(*m.output_drift, notes));
     table.Print(ctx.out);
-    for (const std::string& n : notes) ctx.out << "  " << kCutMark << " " << n << "\n";
+    PrintCutNotes(ctx.out, notes);
     KeyValueList kv;
     kv.Add("fit", FormatNumber(m.fit_percent) + " %");
     kv.Add("residual rms", FormatNumber(m.residual_rms));

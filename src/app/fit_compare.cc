@@ -289,7 +289,7 @@ void PrintComparison(const Context& ctx, const ModelComparison& c) {
               before.interval, after.value, after.interval, change, FormatNumber(p.z, 3), verdict});
   }
   t.Print(ctx);
-  for (const std::string& n : notes) out << "  " << kCutMark << " " << n << "\n";
+  PrintCutNotes(out, notes);
   if (!c.only_old.empty() || !c.only_new.empty()) {
     std::string o, n;
     for (const auto& s : c.only_old) o += (o.empty() ? "" : ", ") + s;

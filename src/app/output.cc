@@ -101,6 +101,10 @@ ParameterText FormatParameter(std::string_view name, double value, double low, d
   return text;
 }
 
+void PrintCutNotes(std::ostream& out, const std::vector<std::string>& notes) {
+  for (const std::string& n : notes) out << "  " << kCutMark << " " << n << "\n";
+}
+
 std::string FormatQuantity(double v, std::string_view unit, int significant) {
   std::string s = FormatNumber(v, significant);
   if (!unit.empty() && !std::isnan(v)) s += " " + std::string(unit);

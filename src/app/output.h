@@ -48,6 +48,8 @@ struct ParameterText : EstimateText {
   std::string note;  // empty unless the interval was cut
 };
 ParameterText FormatParameter(std::string_view name, double value, double low, double high);
+// The notes of a table's cut intervals, one line each under the table: "  † dead_time: ...".
+void PrintCutNotes(std::ostream& out, const std::vector<std::string>& notes);
 
 // FormatNumber followed by a space and the unit when the unit is not empty: "3.2 s"; NaN is
 // "n/a" alone.
