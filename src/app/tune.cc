@@ -17,9 +17,10 @@
 //   4. the proposal is shown and confirmed (on a terminal, else --yes)
 //   5. `predict` at that gain -> prediction.json
 //   6. apply and verify: loop C K A, rest, reference A -> B, rest -> closed_loop.csv (default A
-//      the output's mean level at U0, B = A + half the output change of the step test; the hold
-//      before the step lasts at least the step test's length and the predicted settling time,
-//      the recorded response the step test's length and twice the predicted settling time);
+//      the output's mean level at U0, B = A + half the output change of the step test, both to
+//      6 significant digits; the hold before the step lasts at least the step test's length
+//      and the predicted settling time, the recorded response the step test's length and twice
+//      the predicted settling time);
 //      safe stop
 //   7. `check` -> check.json, the verdict;  8. `report` -> report.html
 // The rig session (heartbeat, trips, signals) stays open from 1 to 6. Exit status: check's
@@ -107,7 +108,8 @@ class TuneCommand : public Command {
                    "Step test: actuator after the step (default: --from + 10 % of the range, "
                    "at most the largest step; downwards when that passes the top)");
     sub.add_option("--ref-step", ref_step_,
-                   "Verification step A:B (default: from the step test's levels)");
+                   "Verification step A:B (default: from the step test's levels, to 6 significant "
+                   "digits)");
     sub.add_option("--structure", structure_,
                    "Model structure fit uses: auto (each, chosen by AICc, the simpler of a "
                    "near-tie) or one of fit's names")
@@ -179,7 +181,7 @@ class TuneCommand : public Command {
 
     // The default reference step, from the measured levels, is rounded to the 6 significant
     // digits the proposal shows, so the step applied is the one shown, predicted and checked
-    // (104.04, not 104.04000000000002); a --reference step is taken as given.
+    // (104.04, not 104.04000000000002); a --ref-step is taken as given.
     auto shown = [](double v) { return std::isfinite(v) ? std::stod(FormatNumber(v, 6)) : v; };
     double a = shown(step.level_before);
     double b = shown(step.level_before + 0.5 * (step.level_after - step.level_before));
