@@ -1,8 +1,6 @@
 // Benchmark of the gain-band designer: locus band, response band and robust band (500 draws) for
 // plants of our own from 2nd to 10th order with dead time. Prints one JSON line per plant with
 // medians in milliseconds and the loop polynomials (for bench_band.py's numpy sweep).
-#include <algorithm>
-#include <chrono>
 #include <cstdio>
 #include <functional>
 #include <random>
@@ -11,19 +9,12 @@
 #include "design/gain_band.h"
 #include "design/response_band.h"
 #include "design/robust_band.h"
+#include "tests/bench/median_time.h"
 
 namespace {
 
 double MedianMs(int reps, const std::function<void()>& f) {
-  std::vector<double> ms;
-  for (int i = 0; i < reps; ++i) {
-    auto t0 = std::chrono::steady_clock::now();
-    f();
-    ms.push_back(
-        std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t0).count());
-  }
-  std::sort(ms.begin(), ms.end());
-  return ms[ms.size() / 2];
+  return 1000.0 * lw::bench::MedianSeconds(reps, lw::bench::WallSeconds, f);
 }
 
 // A plant of order n: lag time constants spread from 2 s down, one lightly damped pair when

@@ -9,11 +9,9 @@
 // then passes through here) and records the most bytes live during a fit above what was live
 // before it. The peak resident set (VmHWM) over the first fit also counts the library code
 // and heap pages first touched by it; later fits reuse the heap's pages and add none.
+// After the fits it measures the floor under such a fit on the same record at the last fit's
+// optimum (bench_fit_floor.h) and adds it to the line as "floor".
 //   bench_fit FILE.csv STRUCTURE REPEATS
-#include <sys/resource.h>
-
-#include <time.h>
-
 #include <malloc.h>
 
 #include <algorithm>
@@ -30,6 +28,8 @@
 #include "identify/fit.h"
 #include "io/csv_reader.h"
 #include "io/recording.h"
+#include "tests/bench/bench_fit_floor.h"
+#include "tests/bench/median_time.h"
 
 extern "C" {
 void* __libc_malloc(size_t);
@@ -42,9 +42,10 @@ void __libc_free(void*);
 namespace {
 
 std::atomic<long> live_bytes{0}, peak_bytes{0};
+std::atomic<bool> counting{true};  // off for the floor, which the fits' heap figures do not need
 
 void Count(void* p, long sign) {
-  if (p == nullptr) return;
+  if (p == nullptr || !counting.load(std::memory_order_relaxed)) return;
   const long now = live_bytes += sign * static_cast<long>(malloc_usable_size(p));
   long peak = peak_bytes.load();
   while (now > peak && !peak_bytes.compare_exchange_weak(peak, now)) {
@@ -128,11 +129,6 @@ int main(int argc, char** argv) {
   options.structure = argv[2];
   const int repeats = std::max(1, std::atoi(argv[3]));
   std::vector<double> seconds, cpu;
-  auto cpu_now = [] {
-    timespec ts{};
-    clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &ts);
-    return static_cast<double>(ts.tv_sec) + 1e-9 * static_cast<double>(ts.tv_nsec);
-  };
   lw::Identification id;
   long rss_before = 0, peak = 0, heap_peak = 0;
   for (int r = 0; r < repeats; ++r) {
@@ -144,9 +140,9 @@ int main(int argc, char** argv) {
     const long heap_before = live_bytes.load();
     peak_bytes.store(heap_before);
     auto t0 = std::chrono::steady_clock::now();
-    const double c0 = cpu_now();
+    const double c0 = lw::bench::CpuSeconds();
     id = lw::Identify(data, options);
-    cpu.push_back(cpu_now() - c0);
+    cpu.push_back(lw::bench::CpuSeconds() - c0);
     seconds.push_back(std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count());
     if (r == 0) peak = PeakRss() - rss_before;
     heap_peak = std::max(heap_peak, peak_bytes.load() - heap_before);
@@ -166,6 +162,8 @@ int main(int argc, char** argv) {
   out["peak_heap_bytes_per_sample"] =
       static_cast<double>(heap_peak) / static_cast<double>(data.t.size());
   out["converged"] = id.model.converged;
+  counting = false;  // the floor is timed with the plain allocator
+  out["floor"] = lw::bench::MeasureFitFloor(data, id, 4 * repeats);
   std::cout << out.dump() << "\n";
   return 0;
 }

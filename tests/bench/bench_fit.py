@@ -18,12 +18,13 @@ loopwright's fit added per sample, two ways: the peak heap (every allocation cou
 most bytes live during a fit) and the peak resident set of the first fit (which also counts
 the library code and heap pages that fit touched first). Timings are printed, never judged.
 
-A second table is the floor under the 100x target: bench_fit_floor (beside BENCH_FIT_BINARY)
-times, on the same recording, the least work any Ceres output-error fit of it whose kernel
-simulates the recorded input sample by sample (any input shape) must do (one read pass, two short Ceres solves, one Jacobian pass and one residual pass over every sample, the
-Ceres covariance; see bench_fit_floor.cc), and the table sets that floor beside the time 100x
-faster than each scipy row allows. A floor above that budget means no fit by this method
-reaches the target on this machine. The last column leaves the Jacobian pass out: the floor of
+A second table is the floor under the 100x target: the same driver times, on the same
+recording, the least work any Ceres output-error fit of it whose kernel simulates the recorded
+input sample by sample (any input shape) must do (one read pass, two short Ceres solves, one
+Jacobian pass and one residual pass over every sample, the Ceres covariance; see
+bench_fit_floor.h), and the table sets that floor beside the time 100x faster than each scipy
+row allows. A floor above that budget means no fit by this method reaches the target on this
+machine. The last column leaves the Jacobian pass out: the floor of
 a fit that would take its optimum and covariance from a reduced record alone (an approximation
 loopwright does not make), still confirming the residual sum of squares on every sample.
 
@@ -130,7 +131,6 @@ def median_run(fit, repeats, *args):
 
 def main():
     binary, out = sys.argv[1], sys.argv[2]
-    floor_binary = os.path.join(os.path.dirname(os.path.abspath(binary)), "bench_fit_floor")
     repeats = int(sys.argv[3]) if len(sys.argv) > 3 else 5
     os.makedirs(out, exist_ok=True)
     rng = np.random.default_rng(99)
@@ -149,17 +149,15 @@ def main():
                 f.write(f"{a!r},{b!r},{c!r}\n")
         ours = json.loads(subprocess.run([binary, path, "sopdt", str(max(repeats, 5))],
                                          capture_output=True, text=True, check=True).stdout)
-        floor = json.loads(subprocess.run([floor_binary, path, "sopdt", str(max(repeats, 5))],
-                                          capture_output=True, text=True, check=True).stdout)
         start = two_point(tt, y)
         closed = median_run(scipy_closed_form, repeats, tt, u, y, start)
         simulated = median_run(scipy_simulated, max(1, repeats // 2 + 1), tt, u, y, start)
-        rows.append((n, ours, closed, simulated, floor))
+        rows.append((n, ours, closed, simulated))
     print(f"medians of CPU time over >= {repeats} runs (wall time beside it for loopwright)")
     print(f"{'samples':>8} {'ours wall':>10} {'ours cpu':>9} {'scipy row':>12} {'scipy cpu':>10} "
           f"{'cpu ratio':>9} {'max param err ours':>19} {'scipy':>7} {'RSS ours/scipy':>15} "
           f"{'heap B/sample':>14} {'resident B/sample':>17}")
-    for n, ours, closed, simulated, _ in rows:
+    for n, ours, closed, simulated in rows:
         err_o = np.max(np.abs(np.array(ours["parameters"]) - TRUE) / TRUE)
         for label, (_, sc, (_, _, sp, srss)) in (("closed form", closed), ("simulated", simulated)):
             err_s = np.max(np.abs(sp - TRUE) / TRUE)
@@ -170,11 +168,13 @@ def main():
                   f"{ours['peak_bytes_per_sample']:17.1f}")
     print()
     print("floor under any sample-by-sample Ceres output-error fit of the same recording "
-          "(bench_fit_floor, medians, microseconds) against the 100x budget (scipy CPU time / 100)")
+          "(bench_fit_floor.h, CPU medians, microseconds) against the 100x budget "
+          "(scipy CPU time / 100)")
     print(f"{'samples':>8} {'read':>6} {'solve':>6} {'(its)':>5} {'J pass':>7} {'r pass':>7} "
           f"{'cov':>5} {'floor':>7} {'scipy row':>12} {'budget':>7} {'floor/budget':>12} "
           f"{'ours/floor':>10} {'no-J floor/budget':>17}")
-    for n, ours, closed, simulated, fl in rows:
+    for n, ours, closed, simulated in rows:
+        fl = ours["floor"]
         us = {k: 1e6 * fl[k] for k in ("read_pass", "ceres_solve", "jacobian_pass",
                                         "residual_pass", "covariance", "floor")}
         for label, (_, sc, _) in (("closed form", closed), ("simulated", simulated)):

@@ -1,12 +1,9 @@
 # Benchmark of `fit` against scipy.optimize.least_squares (prints a table; never pass/fail).
-add_executable(bench_fit ${CMAKE_CURRENT_LIST_DIR}/bench_fit.cc)
+add_executable(bench_fit ${CMAKE_CURRENT_LIST_DIR}/bench_fit.cc
+                         ${CMAKE_CURRENT_LIST_DIR}/bench_fit_floor.cc)
 target_link_libraries(bench_fit PRIVATE lw_identify lw_io)
 loopwright_warnings(bench_fit)
 add_test(NAME bench_fit
          COMMAND ${LOOPWRIGHT_PYTHON} ${CMAKE_CURRENT_LIST_DIR}/bench_fit.py
                  $<TARGET_FILE:bench_fit> ${CMAKE_CURRENT_BINARY_DIR}/bench_fit_data)
 set_tests_properties(bench_fit PROPERTIES LABELS bench TIMEOUT 600)
-# The floor under any sample-by-sample Ceres output-error fit (bench_fit.py prints it).
-add_executable(bench_fit_floor ${CMAKE_CURRENT_LIST_DIR}/bench_fit_floor.cc)
-target_link_libraries(bench_fit_floor PRIVATE lw_identify lw_io)
-loopwright_warnings(bench_fit_floor)
